@@ -1,0 +1,209 @@
+package source
+
+import (
+	"context"
+	"encoding/hex"
+	"errors"
+	"fmt"
+	"net/url"
+	"strings"
+	"time"
+
+	"github.com/jackc/pgx/v5"
+	"github.com/jackc/pgx/v5/pgconn"
+	"github.com/jackc/pgx/v5/pgconn/ctxwatch"
+	"github.com/jackc/pgx/v5/pgtype"
+	"github.com/jackc/pgx/v5/pgxpool"
+)
+
+// pgSource is a PostgreSQL source on a pgx pool.
+type pgSource struct {
+	pool *pgxpool.Pool
+}
+
+var _ Source = (*pgSource)(nil)
+
+// pgRuntimeParams fix the session settings that the text form of values depends
+// on, so that decoding does not depend on the server's configuration. The time
+// zone is left alone: timestamptz values keep the session's zone.
+var pgRuntimeParams = map[string]string{
+	"datestyle":          "ISO, YMD",
+	"intervalstyle":      "iso_8601",
+	"bytea_output":       "hex",
+	"extra_float_digits": "3",
+}
+
+// postgresConfig turns a postgres:// DSN into a pool configuration.
+func postgresConfig(dsn string, o options) (*pgxpool.Config, error) {
+	u, err := url.Parse(dsn)
+	if err != nil {
+		return nil, errors.New("not a valid URL")
+	}
+	cfg, err := pgxpool.ParseConfig(dsn)
+	if err != nil {
+		return nil, err
+	}
+	switch {
+	case o.maxConns > 0:
+		cfg.MaxConns = int32(o.maxConns)
+	case !u.Query().Has("pool_max_conns"):
+		cfg.MaxConns = DefaultMaxConns
+	}
+	cc := cfg.ConnConfig
+	cc.ConnectTimeout = o.connectTimeout
+	for k, v := range pgRuntimeParams {
+		cc.RuntimeParams[k] = v
+	}
+	// On cancellation, ask the server to cancel the statement at once (the
+	// default only breaks the client's connection, and the statement runs on).
+	cc.BuildContextWatcherHandler = func(c *pgconn.PgConn) ctxwatch.Handler {
+		return &pgconn.CancelRequestContextWatcherHandler{Conn: c, DeadlineDelay: 2 * time.Second}
+	}
+	return cfg, nil
+}
+
+func openPostgres(dsn string, o options) (Source, error) {
+	cfg, err := postgresConfig(dsn, o)
+	if err != nil {
+		return nil, fmt.Errorf("parse postgres DSN: %w", err)
+	}
+	pool, err := pgxpool.NewWithConfig(context.Background(), cfg)
+	if err != nil {
+		return nil, err
+	}
+	return &pgSource{pool: pool}, nil
+}
+
+// Dialect implements Source.
+func (s *pgSource) Dialect() Dialect { return Postgres }
+
+// Ping implements Source.
+func (s *pgSource) Ping(ctx context.Context) error { return s.pool.Ping(ctx) }
+
+// Close implements Source.
+func (s *pgSource) Close() error {
+	s.pool.Close()
+	return nil
+}
+
+// Query implements Source. Results are requested in the text format, whose
+// decoding is exact for every type (numeric digits, shortest floats) and gives
+// types without a TypeKind their PostgreSQL spelling.
+func (s *pgSource) Query(ctx context.Context, sql string, args ...any) (Rows, error) {
+	hints, args := splitKinds(args)
+	tx, err := s.pool.BeginTx(ctx, pgx.TxOptions{AccessMode: pgx.ReadOnly})
+	if err != nil {
+		return nil, queryError(ctx, "postgres: begin read-only transaction", err)
+	}
+	r := &pgRows{ctx: ctx, tx: tx}
+	r.rows, err = tx.Query(ctx, sql, append([]any{pgx.QueryResultFormats{pgx.TextFormatCode}}, args...)...)
+	if err != nil {
+		r.Close()
+		return nil, queryError(ctx, "postgres query", err)
+	}
+	fields := r.rows.FieldDescriptions()
+	r.cols = make([]Column, len(fields))
+	for i, f := range fields {
+		name := pgTypeName(f.DataTypeOID)
+		r.cols[i] = Column{Name: f.Name, DatabaseType: strings.ToUpper(name), Kind: pgKind(name)}
+	}
+	applyKinds(r.cols, hints)
+	r.vals = make([]any, len(fields))
+	return r, nil
+}
+
+// pgTypeName returns the name of the type with the given OID as pgx knows it,
+// or "OID n" for types that are not built in (enums, composite types): looking
+// them up would need a second connection while the statement holds its own.
+func pgTypeName(oid uint32) string {
+	if t, ok := pgTypes.TypeForOID(oid); ok {
+		return t.Name
+	}
+	return fmt.Sprintf("oid %d", oid)
+}
+
+// pgTypes names PostgreSQL's built-in types; it is only read.
+var pgTypes = pgtype.NewMap()
+
+// pgRows is the cursor of a PostgreSQL statement and its transaction.
+type pgRows struct {
+	ctx    context.Context
+	tx     pgx.Tx
+	rows   pgx.Rows
+	cols   []Column
+	vals   []any
+	err    error
+	closed bool
+}
+
+// Columns implements Rows.
+func (r *pgRows) Columns() []Column { return r.cols }
+
+// Next implements Rows.
+func (r *pgRows) Next() bool {
+	if r.err != nil || !r.rows.Next() {
+		return false
+	}
+	for i, raw := range r.rows.RawValues() {
+		v, err := pgValue(r.cols[i].Kind, raw)
+		if err != nil {
+			r.err = fmt.Errorf("postgres: column %q: %w", r.cols[i].Name, err)
+			return false
+		}
+		r.vals[i] = v
+	}
+	return true
+}
+
+// Values implements Rows.
+func (r *pgRows) Values() []any { return r.vals }
+
+// Err implements Rows.
+func (r *pgRows) Err() error {
+	if r.err != nil {
+		return r.err
+	}
+	return queryError(r.ctx, "postgres query", r.rows.Err())
+}
+
+// Close implements Rows. The transaction is rolled back under its own short
+// deadline, since the query's context may already have ended.
+func (r *pgRows) Close() error {
+	if r.closed {
+		return nil
+	}
+	r.closed = true
+	if r.rows != nil {
+		r.rows.Close()
+	}
+	ctx, cancel := context.WithTimeout(context.WithoutCancel(r.ctx), 5*time.Second)
+	defer cancel()
+	if err := r.tx.Rollback(ctx); err != nil && !errors.Is(err, pgx.ErrTxClosed) && r.ctx.Err() == nil {
+		return fmt.Errorf("postgres: roll back read-only transaction: %w", err)
+	}
+	return nil
+}
+
+// pgValue decodes the text form of a PostgreSQL value (nil for NULL).
+func pgValue(k TypeKind, raw []byte) (any, error) {
+	if raw == nil {
+		return nil, nil
+	}
+	s := string(raw)
+	switch k {
+	case TypeBinary:
+		h, ok := strings.CutPrefix(s, `\x`)
+		if !ok {
+			return nil, fmt.Errorf("bytea value not in hex format")
+		}
+		return hex.DecodeString(h)
+	case TypeBoolean:
+		switch s {
+		case "t":
+			return true, nil
+		case "f":
+			return false, nil
+		}
+	}
+	return fromText(k, s)
+}

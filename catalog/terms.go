@@ -1,0 +1,319 @@
+package catalog
+
+import (
+	"encoding/hex"
+	"fmt"
+	"math"
+	"math/big"
+	"strconv"
+	"strings"
+	"time"
+
+	"veneer/catalog/rdf"
+	"veneer/catalog/source"
+)
+
+// iriSafe reports whether b may stand unencoded in an IRI built from a template: the
+// iunreserved characters of RFC 3987 (R2RML §7.3). Bytes of multi-byte UTF-8
+// sequences are kept too: ucschar is iunreserved.
+func iriSafe(b byte) bool {
+	return 'a' <= b && b <= 'z' || 'A' <= b && b <= 'Z' || '0' <= b && b <= '9' ||
+		b == '-' || b == '.' || b == '_' || b == '~' || b >= 0x80
+}
+
+// IRISafe percent-encodes every character of s that is not iunreserved, as R2RML
+// §7.3 requires for column values placed into IRI templates.
+func IRISafe(s string) string {
+	var b strings.Builder
+	const hexDigits = "0123456789ABCDEF"
+	for i := 0; i < len(s); i++ {
+		c := s[i]
+		if iriSafe(c) {
+			b.WriteByte(c)
+			continue
+		}
+		b.WriteByte('%')
+		b.WriteByte(hexDigits[c>>4])
+		b.WriteByte(hexDigits[c&15])
+	}
+	return b.String()
+}
+
+// unIRISafe reverses IRISafe. It fails when s could not have come from IRISafe: a
+// character IRISafe would have encoded, or a malformed escape.
+func unIRISafe(s string) (string, bool) {
+	var b strings.Builder
+	for i := 0; i < len(s); i++ {
+		c := s[i]
+		if c == '%' {
+			if i+2 >= len(s) {
+				return "", false
+			}
+			v, err := strconv.ParseUint(s[i+1:i+3], 16, 8)
+			if err != nil || iriSafe(byte(v)) {
+				return "", false
+			}
+			b.WriteByte(byte(v))
+			i += 2
+			continue
+		}
+		if !iriSafe(c) {
+			return "", false
+		}
+		b.WriteByte(c)
+	}
+	return b.String(), true
+}
+
+// Expand fills the template with one string per column reference, in the order of
+// Parts. With iri set, values are IRI-safe encoded (R2RML §7.3).
+func (t Template) Expand(values map[string]string, iri bool) string {
+	var b strings.Builder
+	for _, p := range t.Parts {
+		if p.Column == "" {
+			b.WriteString(p.Text)
+			continue
+		}
+		v := values[p.Column]
+		if iri {
+			v = IRISafe(v)
+		}
+		b.WriteString(v)
+	}
+	return b.String()
+}
+
+// Match decodes s, a string the template may have produced, back into the values
+// of its columns. It reports false when the template cannot produce s. With iri set
+// the values are percent-decoded, and a value IRISafe would not have produced is no
+// match. When adjacent column references leave the split ambiguous, Match takes the
+// shortest value for the earlier column; callers that need every split use the
+// template's shape instead (see SameShape).
+func (t Template) Match(s string, iri bool) (map[string]string, bool) {
+	values := map[string]string{}
+	rest := s
+	for i, p := range t.Parts {
+		if p.Column == "" {
+			if !strings.HasPrefix(rest, p.Text) {
+				return nil, false
+			}
+			rest = rest[len(p.Text):]
+			continue
+		}
+		var raw string
+		if i+1 == len(t.Parts) {
+			raw, rest = rest, ""
+		} else {
+			next := t.Parts[i+1]
+			if next.Column != "" {
+				return nil, false
+			}
+			j := strings.Index(rest, next.Text)
+			if j < 0 {
+				return nil, false
+			}
+			raw, rest = rest[:j], rest[j:]
+		}
+		v := raw
+		if iri {
+			var ok bool
+			if v, ok = unIRISafe(raw); !ok {
+				return nil, false
+			}
+		}
+		if old, seen := values[p.Column]; seen && old != v {
+			return nil, false
+		}
+		values[p.Column] = v
+	}
+	if rest != "" {
+		return nil, false
+	}
+	return values, true
+}
+
+// SameShape reports whether two templates have the same literal text in the same
+// places, so that they produce equal strings exactly when their column values are
+// equal position by position (given values that cannot contain the text between
+// columns, which IRI-safe encoding guarantees for reserved characters).
+func SameShape(a, b Template) bool {
+	if len(a.Parts) != len(b.Parts) {
+		return false
+	}
+	for i := range a.Parts {
+		pa, pb := a.Parts[i], b.Parts[i]
+		if (pa.Column == "") != (pb.Column == "") || pa.Text != pb.Text {
+			return false
+		}
+	}
+	return true
+}
+
+// NaturalDatatype is the natural RDF datatype of an SQL type family (R2RML §10.2);
+// empty for families that map to plain strings.
+func NaturalDatatype(kind source.TypeKind) rdf.IRI {
+	switch kind {
+	case source.TypeInteger:
+		return rdf.XSDInteger
+	case source.TypeDecimal:
+		return rdf.XSDDecimal
+	case source.TypeFloat:
+		return rdf.XSDDouble
+	case source.TypeBoolean:
+		return rdf.XSDBoolean
+	case source.TypeBinary:
+		return rdf.XSDHexBin
+	case source.TypeDate:
+		return rdf.XSDDate
+	case source.TypeTime:
+		return rdf.XSDTime
+	case source.TypeTimestamp, source.TypeTimestampTZ:
+		return rdf.XSDDateTime
+	}
+	return ""
+}
+
+// Lexical returns the canonical lexical form of a normalised SQL value (as
+// source.Rows.Values returns it) for its type family, following R2RML §10.2 and
+// the XML Schema canonical representations. v must not be nil.
+func Lexical(v any, kind source.TypeKind) string {
+	switch x := v.(type) {
+	case int64:
+		if kind == source.TypeBoolean {
+			return strconv.FormatBool(x != 0)
+		}
+		return strconv.FormatInt(x, 10)
+	case float64:
+		if kind == source.TypeDecimal {
+			return canonicalDecimal(strconv.FormatFloat(x, 'f', -1, 64))
+		}
+		return canonicalDouble(x)
+	case bool:
+		return strconv.FormatBool(x)
+	case []byte:
+		if kind == source.TypeBinary {
+			return strings.ToUpper(hex.EncodeToString(x))
+		}
+		return string(x)
+	case time.Time:
+		return timeLexical(x, kind)
+	case string:
+		if kind == source.TypeDecimal {
+			return canonicalDecimal(x)
+		}
+		return x
+	}
+	return fmt.Sprint(v)
+}
+
+// canonicalDecimal rewrites decimal digits into the XSD canonical form: no leading
+// '+', no superfluous leading or trailing zeros, and no fraction when the value is
+// an integer ("12.50" → "12.5", "3.00" → "3", "-0.0" → "0").
+func canonicalDecimal(s string) string {
+	r, ok := new(big.Rat).SetString(s)
+	if !ok {
+		return s
+	}
+	if r.IsInt() {
+		return r.Num().String()
+	}
+	out := r.FloatString(len(s))
+	out = strings.TrimRight(out, "0")
+	return strings.TrimSuffix(out, ".")
+}
+
+// canonicalDouble writes f in the XSD canonical form for xsd:double: a mantissa
+// with one digit before the point and at least one after, and an exponent
+// ("1.5E2", "0.0E0", "INF", "NaN").
+func canonicalDouble(f float64) string {
+	switch {
+	case math.IsNaN(f):
+		return "NaN"
+	case math.IsInf(f, 1):
+		return "INF"
+	case math.IsInf(f, -1):
+		return "-INF"
+	case f == 0:
+		if math.Signbit(f) {
+			return "-0.0E0"
+		}
+		return "0.0E0"
+	}
+	s := strconv.FormatFloat(f, 'E', -1, 64) // e.g. 1.5E+02, 1E+00
+	mant, exp, _ := strings.Cut(s, "E")
+	if !strings.Contains(mant, ".") {
+		mant += ".0"
+	}
+	e, _ := strconv.Atoi(exp)
+	return mant + "E" + strconv.Itoa(e)
+}
+
+func timeLexical(t time.Time, kind source.TypeKind) string {
+	switch kind {
+	case source.TypeDate:
+		return t.Format("2006-01-02")
+	case source.TypeTimestampTZ:
+		return t.Format("2006-01-02T15:04:05.999999999Z07:00")
+	}
+	return t.Format("2006-01-02T15:04:05.999999999")
+}
+
+// NaturalLiteral returns the natural RDF literal of a normalised SQL value (R2RML
+// §10.2). v must not be nil.
+func NaturalLiteral(v any, kind source.TypeKind) rdf.Literal {
+	dt := NaturalDatatype(kind)
+	if dt == "" {
+		dt = rdf.XSDString
+	}
+	return rdf.NewTyped(Lexical(v, kind), dt)
+}
+
+// ParseLexical is the inverse of Lexical: it returns the normalised SQL value whose
+// canonical lexical form for kind is exactly lexical, and false when there is none
+// (a non-canonical or ill-formed lexical form cannot come from the column).
+func ParseLexical(lexical string, kind source.TypeKind) (any, bool) {
+	var v any
+	switch kind {
+	case source.TypeInteger:
+		n, err := strconv.ParseInt(lexical, 10, 64)
+		if err != nil {
+			return nil, false
+		}
+		v = n
+	case source.TypeFloat:
+		f, err := strconv.ParseFloat(lexical, 64)
+		if err != nil {
+			return nil, false
+		}
+		v = f
+	case source.TypeBoolean:
+		b, err := strconv.ParseBool(lexical)
+		if err != nil {
+			return nil, false
+		}
+		v = b
+	case source.TypeBinary:
+		b, err := hex.DecodeString(lexical)
+		if err != nil {
+			return nil, false
+		}
+		v = b
+	case source.TypeDate, source.TypeTimestamp, source.TypeTimestampTZ:
+		layout := map[source.TypeKind]string{
+			source.TypeDate:        "2006-01-02",
+			source.TypeTimestamp:   "2006-01-02T15:04:05.999999999",
+			source.TypeTimestampTZ: time.RFC3339Nano,
+		}[kind]
+		t, err := time.Parse(layout, lexical)
+		if err != nil {
+			return nil, false
+		}
+		v = t
+	default:
+		v = lexical
+	}
+	if Lexical(v, kind) != lexical {
+		return nil, false
+	}
+	return v, true
+}

@@ -1,0 +1,69 @@
+// Command veneer publishes a relational database as a SPARQL endpoint, rewriting
+// each query into SQL over the live tables through an R2RML mapping.
+//
+//	veneer demo  [--listen ADDR]
+//	veneer serve --db DSN --mapping FILE [--mapping FILE]... [--listen ADDR]
+package main
+
+import (
+	"context"
+	"errors"
+	"flag"
+	"fmt"
+	"io"
+	"os"
+	"os/signal"
+	"strings"
+	"syscall"
+)
+
+// exitUsage is the exit code for bad flags and for set-up failures such as an
+// unreadable mapping or an unreachable database.
+const exitUsage = 2
+
+func main() {
+	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
+	defer stop()
+	if err := run(ctx, os.Args[1:], os.Stdout, os.Stderr); err != nil {
+		if !errors.Is(err, flag.ErrHelp) {
+			fmt.Fprintln(os.Stderr, "veneer: "+oneLine(err.Error()))
+		}
+		os.Exit(exitUsage)
+	}
+}
+
+// oneLine folds a multi-line error (a syntax error shows its source line) so the
+// first line says what failed and where.
+func oneLine(s string) string {
+	first, _, _ := strings.Cut(s, "\n")
+	return first
+}
+
+const usage = `usage:
+  veneer demo  [--listen ADDR]
+  veneer serve --db DSN --mapping FILE [--mapping FILE]... [--listen ADDR]
+`
+
+func run(ctx context.Context, args []string, stdout, stderr io.Writer) error {
+	if len(args) == 0 {
+		fmt.Fprint(stderr, usage)
+		return errors.New("missing subcommand")
+	}
+	switch args[0] {
+	case "demo":
+		return runDemo(ctx, args[1:], stdout, stderr)
+	case "serve":
+		return runServe(ctx, args[1:], stdout, stderr)
+	case "help", "-h", "--help":
+		fmt.Fprint(stdout, usage)
+		return nil
+	}
+	fmt.Fprint(stderr, usage)
+	return fmt.Errorf("unknown subcommand %q", args[0])
+}
+
+// multiFlag collects a repeatable string flag.
+type multiFlag []string
+
+func (m *multiFlag) String() string     { return strings.Join(*m, ",") }
+func (m *multiFlag) Set(v string) error { *m = append(*m, v); return nil }

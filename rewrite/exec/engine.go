@@ -1,0 +1,80 @@
+package exec
+
+import (
+	"context"
+	"errors"
+
+	"veneer/catalog/source"
+	"veneer/rewrite"
+)
+
+// Engine answers SPARQL query text from one catalog over one source.
+type Engine struct {
+	Planner *rewrite.Planner
+	Source  source.Source
+}
+
+// Query compiles and starts a query. The returned cursor must be closed.
+func (e *Engine) Query(ctx context.Context, text string) (*Cursor, error) {
+	p, err := e.Planner.Compile(text)
+	if err != nil {
+		return nil, &Error{Kind: BadQuery, Err: err}
+	}
+	c, err := Run(ctx, e.Source, p)
+	if err != nil {
+		return nil, classify(ctx, err)
+	}
+	return c, nil
+}
+
+// Ready checks that the source answers.
+func (e *Engine) Ready(ctx context.Context) error { return e.Source.Ping(ctx) }
+
+// ErrorKind classifies a failure for the client: it decides the HTTP status.
+type ErrorKind int
+
+// The kinds of failure.
+const (
+	Internal ErrorKind = iota
+	BadQuery
+	Timeout
+	Canceled
+	Unavailable
+	TooLarge
+)
+
+// Error is a failure with its kind.
+type Error struct {
+	Kind ErrorKind
+	Err  error
+}
+
+func (e *Error) Error() string { return e.Err.Error() }
+
+// Unwrap returns the underlying error.
+func (e *Error) Unwrap() error { return e.Err }
+
+// KindOf returns the kind of err: the kind of the first *Error in its chain, or
+// Internal.
+func KindOf(err error) ErrorKind {
+	var e *Error
+	if errors.As(err, &e) {
+		return e.Kind
+	}
+	return Internal
+}
+
+// classify gives a database failure its kind from the context's state.
+func classify(ctx context.Context, err error) error {
+	switch {
+	case errors.Is(ctx.Err(), context.DeadlineExceeded):
+		return &Error{Kind: Timeout, Err: err}
+	case errors.Is(ctx.Err(), context.Canceled):
+		return &Error{Kind: Canceled, Err: err}
+	}
+	var e *Error
+	if errors.As(err, &e) {
+		return err
+	}
+	return &Error{Kind: Unavailable, Err: err}
+}

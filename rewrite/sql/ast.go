@@ -1,0 +1,159 @@
+// Package sql is the SQL syntax tree the planner builds and the printers that turn
+// it into the text of one dialect (PostgreSQL, MySQL/MariaDB, SQLite) with its bind
+// parameters. Values never appear in the text: every Param becomes a placeholder.
+package sql
+
+import "veneer/catalog"
+
+// Stmt is a query statement: a *Select or a *Union.
+type Stmt interface{ stmt() }
+
+// Select is one SELECT block.
+type Select struct {
+	Distinct bool
+	Columns  []Column
+	From     []From
+	Where    Expr
+	GroupBy  []Expr
+	Having   Expr
+	OrderBy  []Order
+	// Limit and Offset are bound as parameters; nil means none.
+	Limit, Offset *int64
+}
+
+// Union combines SELECT blocks; All keeps duplicates. OrderBy, Limit and Offset
+// apply to the combined rows and may only name output columns.
+type Union struct {
+	All     bool
+	Selects []*Select
+	OrderBy []Order
+	Limit   *int64
+	Offset  *int64
+}
+
+func (*Select) stmt() {}
+func (*Union) stmt()  {}
+
+// Column is one output column.
+type Column struct {
+	Expr  Expr
+	Alias string
+}
+
+// From is a FROM-list item: *Table or *Derived, optionally left-joined.
+type From interface{ from() }
+
+// Table is a named table or view with an alias. Name holds the parts of a possibly
+// schema-qualified name.
+type Table struct {
+	Name  []catalog.Ident
+	Alias string
+}
+
+// Derived is a sub-query in FROM (an R2RML view, or a nested plan).
+type Derived struct {
+	// Query is either SQL text written by a mapping author (an R2RML view) or a
+	// statement the planner built; exactly one is set.
+	Query string
+	Stmt  Stmt
+	Alias string
+}
+
+// LeftJoin is a LEFT OUTER JOIN of the item before it in the FROM list and Right.
+type LeftJoin struct {
+	Right From
+	On    Expr
+}
+
+func (*Table) from()    {}
+func (*Derived) from()  {}
+func (*LeftJoin) from() {}
+
+// Order is one ORDER BY item.
+type Order struct {
+	Expr Expr
+	Desc bool
+}
+
+// Expr is an SQL expression.
+type Expr interface{ expr() }
+
+// ColumnRef names a column of a FROM item.
+type ColumnRef struct {
+	Table  string
+	Column catalog.Ident
+}
+
+// Param is a value bound as a parameter.
+type Param struct{ Value any }
+
+// Int is an integer the planner itself chose (a branch number, a constant 1); it
+// never carries a value from a request, which always travels as a Param.
+type Int int64
+
+// Null is the SQL NULL.
+type Null struct{}
+
+// Binary is a binary operator: "=", "<>", "<", "<=", ">", ">=", "AND", "OR",
+// "+", "-", "*", "/".
+type Binary struct {
+	Op   string
+	L, R Expr
+	// Exact asks for a code-point (binary) comparison of strings, whatever the
+	// column's collation; the MySQL printer honours it, the others compare so anyway.
+	Exact bool
+}
+
+// Not is logical negation.
+type Not struct{ X Expr }
+
+// IsNull tests for NULL (or NOT NULL when Not is set).
+type IsNull struct {
+	X   Expr
+	Not bool
+}
+
+// Func is a function call, printed as written.
+type Func struct {
+	Name string
+	Args []Expr
+}
+
+// Exists is EXISTS (sub-query).
+type Exists struct {
+	Stmt Stmt
+	Not  bool
+}
+
+func (ColumnRef) expr() {}
+func (Param) expr()     {}
+func (Int) expr()       {}
+func (Null) expr()      {}
+func (Binary) expr()    {}
+func (Not) expr()       {}
+func (IsNull) expr()    {}
+func (Func) expr()      {}
+func (Exists) expr()    {}
+
+// And joins conditions with AND, skipping nil ones; nil when there are none.
+func And(conds ...Expr) Expr {
+	var out Expr
+	for _, c := range conds {
+		switch {
+		case c == nil:
+		case out == nil:
+			out = c
+		default:
+			out = Binary{Op: "AND", L: out, R: c}
+		}
+	}
+	return out
+}
+
+// Cast converts X to the named SQL type.
+type Cast struct {
+	X    Expr
+	Type string
+}
+
+func (Cast) expr() {}

@@ -1,0 +1,124 @@
+package results
+
+import (
+	"fmt"
+	"io"
+	"strings"
+
+	"veneer/catalog/rdf"
+)
+
+// NewCSV returns a writer of the CSV format of SPARQL 1.1 Query Results CSV
+// and TSV Formats (text/csv). The format is lossy: a field holds an IRI
+// without angle brackets, a literal's lexical form without its datatype or
+// language tag, a blank node as "_:" and its label, and nothing for an unbound
+// variable. Lines end in CRLF and fields are quoted as RFC 4180 §2 says.
+func NewCSV(w io.Writer) SelectWriter { return newSelectWriter(w, "CSV", csvEncoder{}) }
+
+// NewTSV returns a writer of the TSV format of SPARQL 1.1 Query Results CSV
+// and TSV Formats (text/tab-separated-values). Variables are written with
+// their "?", terms in Turtle syntax (numbers and booleans in their short form
+// where that keeps the lexical form, no prefixed names), nothing for an unbound
+// variable; lines end in LF. Blank nodes may be renamed (see appendBlankLabel).
+func NewTSV(w io.Writer) SelectWriter {
+	return newSelectWriter(w, "TSV", tsvEncoder{terms: termSyntax{short: true}})
+}
+
+// csvEncoder writes CSV: a header line of variable names, then one line per solution.
+type csvEncoder struct{}
+
+func (csvEncoder) head(dst []byte, vars []string) []byte {
+	// VARNAMEs (checkVars) hold nothing that needs quoting.
+	for i, v := range vars {
+		if i > 0 {
+			dst = append(dst, ',')
+		}
+		dst = append(dst, v...)
+	}
+	return append(dst, "\r\n"...)
+}
+
+func (csvEncoder) row(dst []byte, _ int, vars []string, sol []rdf.Term) ([]byte, error) {
+	for j, t := range sol {
+		if j > 0 {
+			dst = append(dst, ',')
+		}
+		var err error
+		switch t := t.(type) {
+		case nil:
+		case rdf.IRI:
+			dst, err = appendCSVField(dst, "", string(t))
+		case rdf.BlankNode:
+			dst, err = appendCSVField(dst, "_:", string(t))
+		case rdf.Literal:
+			dst, err = appendCSVField(dst, "", t.Lexical)
+		}
+		if err != nil {
+			return dst, fmt.Errorf("?%s: %w", vars[j], err)
+		}
+	}
+	return append(dst, "\r\n"...), nil
+}
+
+func (csvEncoder) tail(dst []byte) []byte { return dst }
+
+// appendCSVField appends the field prefix+s, in double quotes with inner
+// quotes doubled when it holds a quote, comma, CR or LF (RFC 4180 §2 rules 6
+// and 7). Text that is not UTF-8 is an error.
+func appendCSVField(dst []byte, prefix, s string) ([]byte, error) {
+	if err := checkUTF8(s); err != nil {
+		return dst, err
+	}
+	if !strings.ContainsAny(s, "\",\r\n") {
+		dst = append(dst, prefix...)
+		return append(dst, s...), nil
+	}
+	dst = append(dst, '"')
+	dst = append(dst, prefix...)
+	for {
+		i := strings.IndexByte(s, '"')
+		if i < 0 {
+			break
+		}
+		dst = append(dst, s[:i+1]...)
+		dst = append(dst, '"')
+		s = s[i+1:]
+	}
+	dst = append(dst, s...)
+	return append(dst, '"'), nil
+}
+
+// tsvEncoder writes TSV: a header line of "?"-prefixed variables, then one
+// line per solution.
+type tsvEncoder struct{ terms termSyntax }
+
+func (tsvEncoder) head(dst []byte, vars []string) []byte {
+	for i, v := range vars {
+		if i > 0 {
+			dst = append(dst, '\t')
+		}
+		dst = append(dst, '?')
+		dst = append(dst, v...)
+	}
+	return append(dst, '\n')
+}
+
+// row writes the terms separated by tabs. The Turtle syntax escapes tab, LF
+// and CR inside IRIs and literals, so they cannot break the line.
+func (e tsvEncoder) row(dst []byte, _ int, vars []string, sol []rdf.Term) ([]byte, error) {
+	for j, t := range sol {
+		if j > 0 {
+			dst = append(dst, '\t')
+		}
+		if t == nil {
+			continue
+		}
+		var err error
+		if dst, err = e.terms.appendTerm(dst, t); err != nil {
+			return dst, fmt.Errorf("?%s: %w", vars[j], err)
+		}
+	}
+	return append(dst, '\n'), nil
+}
+
+func (tsvEncoder) tail(dst []byte) []byte { return dst }

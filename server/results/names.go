@@ -1,0 +1,146 @@
+package results
+
+import (
+	"fmt"
+	"strings"
+	"unicode/utf8"
+)
+
+// isVarName reports whether s matches VARNAME of SPARQL 1.1 Query §19.8:
+//
+//	[166] VARNAME ::= ( PN_CHARS_U | [0-9] ) ( PN_CHARS_U | [0-9] | #x00B7 | [#x0300-#x036F] | [#x203F-#x2040] )*
+func isVarName(s string) bool {
+	if s == "" || !utf8.ValidString(s) {
+		return false
+	}
+	for i, r := range s {
+		switch {
+		case isPNCharsU(r) || isDigit(r):
+		case i > 0 && (r == 0xB7 || 0x300 <= r && r <= 0x36F || 0x203F <= r && r <= 0x2040):
+		default:
+			return false
+		}
+	}
+	return true
+}
+
+// isPrefixName reports whether s, which must be valid UTF-8, can be declared
+// as a prefix in Turtle (RDF 1.1 Turtle §6.5):
+//
+//	[139s] PNAME_NS  ::= PN_PREFIX? ':'
+//	[167s] PN_PREFIX ::= PN_CHARS_BASE ((PN_CHARS | '.')* PN_CHARS)?
+func isPrefixName(s string) bool { return s == "" || isPNName(s, isPNCharsBase) }
+
+// isLocalName reports whether s, which must be valid UTF-8, can follow a prefix
+// in a Turtle prefixed name as it is, without escapes. It accepts the part of
+// PN_LOCAL (RDF 1.1 Turtle §6.5) that needs neither ':' nor PLX:
+//
+//	[168s] PN_LOCAL ::= (PN_CHARS_U | ':' | [0-9] | PLX) ((PN_CHARS | '.' | ':' | PLX)* (PN_CHARS | ':' | PLX))?
+func isLocalName(s string) bool {
+	return s == "" || isPNName(s, func(r rune) bool { return isPNCharsU(r) || isDigit(r) })
+}
+
+// isPNName reports whether s starts with a rune first accepts, goes on with
+// PN_CHARS and '.', and does not end with '.'.
+func isPNName(s string, first func(rune) bool) bool {
+	for i, r := range s {
+		if i == 0 && !first(r) || i > 0 && !isPNChars(r) && r != '.' {
+			return false
+		}
+	}
+	return !strings.HasSuffix(s, ".")
+}
+
+// The character classes of the Turtle and SPARQL grammars (RDF 1.1 Turtle
+// §6.5, SPARQL 1.1 Query §19.8). They repeat unexported helpers of
+// veneer/catalog/rdf, which does not export them.
+
+// isPNCharsBase implements PN_CHARS_BASE.
+func isPNCharsBase(r rune) bool {
+	switch {
+	case 'A' <= r && r <= 'Z', 'a' <= r && r <= 'z',
+		0xC0 <= r && r <= 0xD6, 0xD8 <= r && r <= 0xF6, 0xF8 <= r && r <= 0x2FF,
+		0x370 <= r && r <= 0x37D, 0x37F <= r && r <= 0x1FFF, 0x200C <= r && r <= 0x200D,
+		0x2070 <= r && r <= 0x218F, 0x2C00 <= r && r <= 0x2FEF, 0x3001 <= r && r <= 0xD7FF,
+		0xF900 <= r && r <= 0xFDCF, 0xFDF0 <= r && r <= 0xFFFD, 0x10000 <= r && r <= 0xEFFFF:
+		return true
+	}
+	return false
+}
+
+// isPNCharsU implements PN_CHARS_U ::= PN_CHARS_BASE | '_'.
+func isPNCharsU(r rune) bool { return r == '_' || isPNCharsBase(r) }
+
+// isPNChars implements PN_CHARS ::= PN_CHARS_U | '-' | [0-9] | #x00B7 | [#x0300-#x036F] | [#x203F-#x2040].
+func isPNChars(r rune) bool {
+	return isPNCharsU(r) || r == '-' || isDigit(r) || r == 0xB7 ||
+		0x300 <= r && r <= 0x36F || 0x203F <= r && r <= 0x2040
+}
+
+func isDigit(r rune) bool { return '0' <= r && r <= '9' }
+
+func isASCIIAlnum(c byte) bool {
+	return 'a' <= c && c <= 'z' || 'A' <= c && c <= 'Z' || '0' <= c && c <= '9'
+}
+
+// isLangTag reports whether s matches LANGTAG of N-Triples and Turtle
+// (RDF 1.1 Turtle §6.5 [144s], without the '@'):
+//
+//	LANGTAG ::= '@' [a-zA-Z]+ ('-' [a-zA-Z0-9]+)*
+func isLangTag(s string) bool {
+	for i, sub := range strings.Split(s, "-") {
+		if sub == "" {
+			return false
+		}
+		for j := 0; j < len(sub); j++ {
+			c := sub[j]
+			if !isASCIIAlnum(c) || i == 0 && isDigit(rune(c)) {
+				return false
+			}
+		}
+	}
+	return true
+}
+
+// appendBlankLabel appends "_:" and a label for the blank node that fits
+// BLANK_NODE_LABEL of N-Triples and Turtle (RDF 1.1 Turtle §6.5 [141s]):
+//
+//	BLANK_NODE_LABEL ::= '_:' (PN_CHARS_U | [0-9]) ((PN_CHARS | '.')* PN_CHARS)?
+//
+// Blank node labels are local to a document (RDF 1.1 Concepts §3.4), so a
+// writer may rename blank nodes as long as it does so consistently and never
+// gives two nodes the same name. Labels made of ASCII letters and digits, and
+// '-' after the first byte, are kept; any other byte becomes '_' and two hex
+// digits, which keeps the renaming one-to-one, and the empty label becomes "_".
+// label must be valid UTF-8.
+func appendBlankLabel(dst []byte, label string) []byte {
+	const hex = "0123456789abcdef"
+	dst = append(dst, "_:"...)
+	if label == "" {
+		return append(dst, '_')
+	}
+	for i := 0; i < len(label); i++ {
+		c := label[i]
+		if isASCIIAlnum(c) || c == '-' && i > 0 {
+			dst = append(dst, c)
+		} else {
+			dst = append(dst, '_', hex[c>>4], hex[c&0xf])
+		}
+	}
+	return dst
+}
+
+// checkUTF8 reports where s stops being UTF-8. Every format here is Unicode
+// text, and a replacement character would change the term.
+func checkUTF8(s string) error {
+	if utf8.ValidString(s) {
+		return nil
+	}
+	for i := 0; ; {
+		r, size := utf8.DecodeRuneInString(s[i:])
+		if r == utf8.RuneError && size == 1 {
+			return fmt.Errorf("invalid UTF-8 at byte %d", i)
+		}
+		i += size
+	}
+}
