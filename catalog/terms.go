@@ -173,37 +173,98 @@ func NaturalDatatype(kind source.TypeKind) rdf.IRI {
 	return ""
 }
 
-// Lexical returns the canonical lexical form of a normalised SQL value (as
-// source.Rows.Values returns it) for its type family, following R2RML §10.2 and
-// the XML Schema canonical representations. v must not be nil.
+// Lexical returns the canonical lexical form of an SQL value for the type family
+// of the column it came from, following R2RML §10.2 and the XML Schema canonical
+// representations. v must not be nil. The value may arrive as any of the Go types
+// drivers use: a column read through a UNION or an expression can lose its declared
+// type on the way (SQLite types values, not columns), so the family decides, not
+// the Go type.
 func Lexical(v any, kind source.TypeKind) string {
-	switch x := v.(type) {
-	case int64:
-		if kind == source.TypeBoolean {
+	switch kind {
+	case source.TypeInteger:
+		switch x := v.(type) {
+		case int64:
+			return strconv.FormatInt(x, 10)
+		case float64:
+			if x == math.Trunc(x) && math.Abs(x) < 1<<53 {
+				return strconv.FormatInt(int64(x), 10)
+			}
+		}
+		return canonicalDecimal(plain(v))
+	case source.TypeDecimal:
+		if f, ok := v.(float64); ok {
+			return canonicalDecimal(strconv.FormatFloat(f, 'f', -1, 64))
+		}
+		return canonicalDecimal(plain(v))
+	case source.TypeFloat:
+		switch x := v.(type) {
+		case float64:
+			return canonicalDouble(x)
+		case int64:
+			return canonicalDouble(float64(x))
+		}
+		if f, err := strconv.ParseFloat(plain(v), 64); err == nil {
+			return canonicalDouble(f)
+		}
+	case source.TypeBoolean:
+		switch x := v.(type) {
+		case bool:
+			return strconv.FormatBool(x)
+		case int64:
 			return strconv.FormatBool(x != 0)
 		}
+		switch s := strings.ToLower(plain(v)); s {
+		case "1", "true", "t":
+			return "true"
+		case "0", "false", "f":
+			return "false"
+		}
+	case source.TypeBinary:
+		switch x := v.(type) {
+		case []byte:
+			return strings.ToUpper(hex.EncodeToString(x))
+		case string:
+			return strings.ToUpper(hex.EncodeToString([]byte(x)))
+		}
+	case source.TypeDate, source.TypeTimestamp, source.TypeTimestampTZ:
+		if t, ok := v.(time.Time); ok {
+			return timeLexical(t, kind)
+		}
+		if t, ok := parseSQLTime(plain(v)); ok {
+			return timeLexical(t, kind)
+		}
+	}
+	return plain(v)
+}
+
+// plain is the text of a value with no type family to honour.
+func plain(v any) string {
+	switch x := v.(type) {
+	case string:
+		return x
+	case []byte:
+		return string(x)
+	case int64:
 		return strconv.FormatInt(x, 10)
 	case float64:
-		if kind == source.TypeDecimal {
-			return canonicalDecimal(strconv.FormatFloat(x, 'f', -1, 64))
-		}
-		return canonicalDouble(x)
+		return strconv.FormatFloat(x, 'f', -1, 64)
 	case bool:
 		return strconv.FormatBool(x)
-	case []byte:
-		if kind == source.TypeBinary {
-			return strings.ToUpper(hex.EncodeToString(x))
-		}
-		return string(x)
 	case time.Time:
-		return timeLexical(x, kind)
-	case string:
-		if kind == source.TypeDecimal {
-			return canonicalDecimal(x)
-		}
-		return x
+		return x.Format(time.RFC3339Nano)
 	}
 	return fmt.Sprint(v)
+}
+
+// parseSQLTime reads the text forms databases use for dates and timestamps.
+func parseSQLTime(s string) (time.Time, bool) {
+	for _, layout := range []string{"2006-01-02", "2006-01-02 15:04:05.999999999", "2006-01-02T15:04:05.999999999",
+		"2006-01-02 15:04:05.999999999Z07:00", time.RFC3339Nano} {
+		if t, err := time.Parse(layout, s); err == nil {
+			return t, true
+		}
+	}
+	return time.Time{}, false
 }
 
 // canonicalDecimal rewrites decimal digits into the XSD canonical form: no leading

@@ -35,19 +35,38 @@ func (pl *Planner) groupKey(o occurrence) string {
 	return b.String()
 }
 
-// columnsOf returns the SQL expressions that carry an occurrence's term: its
-// columns, or a marker for a constant map.
-func (pl *Planner) columnsOf(o occurrence) ([]sql.Expr, []source.TypeKind) {
+// columnsOf returns the SQL expressions that carry an occurrence's term (its
+// columns, or a marker for a constant map) with their types.
+func (pl *Planner) columnsOf(o occurrence) ([]sql.Expr, []source.Column) {
 	if o.m.Kind == catalog.Constant {
-		return []sql.Expr{sql.Int(1)}, []source.TypeKind{source.TypeInteger}
+		return []sql.Expr{sql.Int(1)}, []source.Column{{DatabaseType: "INTEGER", Kind: source.TypeInteger}}
 	}
 	var exprs []sql.Expr
-	var kinds []source.TypeKind
+	var cols []source.Column
 	for _, c := range o.m.Columns() {
 		exprs = append(exprs, pl.colRef(o.alias, o.table, c))
-		kinds = append(kinds, pl.kind(o.table, c))
+		col, _ := pl.cols.Lookup(o.table, c)
+		cols = append(cols, col)
 	}
-	return exprs, kinds
+	return exprs, cols
+}
+
+func kindsOf(cols []source.Column) []source.TypeKind {
+	kinds := make([]source.TypeKind, len(cols))
+	for i, c := range cols {
+		kinds[i] = c.Kind
+	}
+	return kinds
+}
+
+// nullOf is the NULL that fills a result column in the union branches that do not
+// bind it. PostgreSQL resolves the type of a UNION column pairwise from the left,
+// and NULLs alone resolve to text, so there the NULL carries the column's type.
+func (pl *Planner) nullOf(col source.Column) sql.Expr {
+	if pl.dialect != source.Postgres || col.DatabaseType == "" {
+		return sql.Null{}
+	}
+	return sql.Cast{X: sql.Null{}, Type: col.DatabaseType}
 }
 
 // statement builds the SQL of an unfolded BGP. vars are the variables whose values
@@ -72,9 +91,10 @@ func (pl *Planner) statement(u *unfolded, project []algebra.Var, distinct, sqlCo
 		start int // first result column
 	}
 	var (
-		slots  []Slot
-		checks []Check
-		ncols  int
+		slots   []Slot
+		checks  []Check
+		ncols   int
+		colType = map[int]source.Column{}
 	)
 	allocs := map[string]alloc{}
 	cells := make([]map[int]sql.Expr, len(u.branches))
@@ -86,14 +106,15 @@ func (pl *Planner) statement(u *unfolded, project []algebra.Var, distinct, sqlCo
 		for bi, b := range u.branches {
 			o := b.vars[v]
 			key := fmt.Sprintf("%d/%s", si, pl.groupKey(o))
-			exprs, kinds := pl.columnsOf(o)
+			exprs, types := pl.columnsOf(o)
 			a, ok := allocs[key]
 			if !ok {
 				a = alloc{group: len(slot.Groups), start: ncols}
 				allocs[key] = a
-				g := Group{Map: o.m, Kinds: kinds}
+				g := Group{Map: o.m, Kinds: kindsOf(types)}
 				for i := range exprs {
 					g.Cols = append(g.Cols, ncols+i)
+					colType[ncols+i] = types[i]
 				}
 				ncols += len(exprs)
 				slot.Groups = append(slot.Groups, g)
@@ -112,11 +133,12 @@ func (pl *Planner) statement(u *unfolded, project []algebra.Var, distinct, sqlCo
 					si = i
 				}
 			}
-			exprs, kinds := pl.columnsOf(c.occ)
-			g := Group{Map: c.occ.m, Kinds: kinds}
+			exprs, types := pl.columnsOf(c.occ)
+			g := Group{Map: c.occ.m, Kinds: kindsOf(types)}
 			for i, e := range exprs {
 				g.Cols = append(g.Cols, ncols+i)
 				cells[bi][ncols+i] = e
+				colType[ncols+i] = types[i]
 			}
 			ncols += len(exprs)
 			checks = append(checks, Check{Slot: si, Group: g})
@@ -128,7 +150,7 @@ func (pl *Planner) statement(u *unfolded, project []algebra.Var, distinct, sqlCo
 		for c := 0; c < ncols; c++ {
 			e, ok := cells[bi][c]
 			if !ok {
-				e = sql.Null{}
+				e = pl.nullOf(colType[c])
 			}
 			sel.Columns = append(sel.Columns, sql.Column{Expr: e, Alias: fmt.Sprintf("c%d", c)})
 		}

@@ -80,7 +80,7 @@ func Open(ctx context.Context, dsn string, opts ...Option) (Source, error) {
 		}
 	}
 	if err != nil {
-		return nil, scrub(fmt.Errorf("open %s: %w", Redact(dsn), err), password(dsn))
+		return nil, tidy(fmt.Errorf("open %s: %w", Redact(dsn), err), password(dsn))
 	}
 	return src, nil
 }
@@ -150,26 +150,29 @@ func password(dsn string) string {
 	return u.Query().Get("password")
 }
 
-// scrubbedError is an error whose message has had a secret removed; the
+// tidiedError is an error whose message has been made fit for a log line; the
 // original error stays reachable for errors.Is and errors.As.
-type scrubbedError struct {
+type tidiedError struct {
 	msg string
 	err error
 }
 
-func (e *scrubbedError) Error() string { return e.msg }
-func (e *scrubbedError) Unwrap() error { return e.err }
+func (e *tidiedError) Error() string { return e.msg }
+func (e *tidiedError) Unwrap() error { return e.err }
 
-// scrub hides every occurrence of secret (raw or URL-escaped) in err's message.
-func scrub(err error, secret string) error {
-	if secret == "" {
-		return err
-	}
+// tidy hides every occurrence of secret (raw or URL-escaped) in err's message
+// and puts the message on one line (pgx lists one line per address it tried).
+func tidy(err error, secret string) error {
 	msg := err.Error()
-	for _, s := range []string{secret, url.QueryEscape(secret), url.PathEscape(secret)} {
-		msg = strings.ReplaceAll(msg, s, redactedPassword)
+	if secret != "" {
+		for _, s := range []string{secret, url.QueryEscape(secret), url.PathEscape(secret)} {
+			msg = strings.ReplaceAll(msg, s, redactedPassword)
+		}
 	}
-	return &scrubbedError{msg: msg, err: err}
+	msg = strings.ReplaceAll(msg, ":\n\t", ": ")
+	msg = strings.ReplaceAll(msg, "\n\t", "; ")
+	msg = strings.ReplaceAll(msg, "\n", "; ")
+	return &tidiedError{msg: msg, err: err}
 }
 
 // splitKinds takes a leading Kinds value off a Query's arguments.

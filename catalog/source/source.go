@@ -35,17 +35,17 @@ type TypeKind int
 
 // The type families. Each says which Go type Rows.Values uses for a non-NULL value.
 const (
-	TypeOther     TypeKind = iota // string
-	TypeString                    // string
-	TypeInteger                   // int64
-	TypeDecimal                   // string: the exact decimal digits, e.g. "-12.50"
-	TypeFloat                     // float64
-	TypeBoolean                   // bool
-	TypeBinary                    // []byte
-	TypeDate                      // time.Time (UTC midnight of the date)
-	TypeTime                      // string "HH:MM:SS[.fraction]"
-	TypeTimestamp                 // time.Time, no zone (read as UTC)
-	TypeTimestampTZ               // time.Time with its zone
+	TypeOther       TypeKind = iota // string
+	TypeString                      // string
+	TypeInteger                     // int64
+	TypeDecimal                     // string: the exact decimal digits, e.g. "-12.50"
+	TypeFloat                       // float64
+	TypeBoolean                     // bool
+	TypeBinary                      // []byte
+	TypeDate                        // time.Time (UTC midnight of the date)
+	TypeTime                        // string "HH:MM:SS[.fraction]"
+	TypeTimestamp                   // time.Time, no zone (read as UTC)
+	TypeTimestampTZ                 // time.Time with its zone
 )
 
 var kindNames = [...]string{

@@ -153,17 +153,21 @@ func parseOffset(s string) (int, error) {
 	return sign * secs, nil
 }
 
-// normalize converts a value from a database/sql driver (MySQL or SQLite) into
-// the Go type that k names. The drivers hand out int64, uint64, float32, float64,
-// bool, []byte, string, time.Time or nil, depending on the protocol and, for
-// SQLite, on what the row stores.
+// normalize converts a value that database/sql scanned into an *any from a
+// MySQL or SQLite driver into the Go type that k names. The drivers hand out
+// int64, uint64, float32, float64, bool, []byte, string, time.Time or nil,
+// depending on the protocol and, for SQLite, on what the row stores; a []byte
+// is already a copy that database/sql made for the scan.
 func normalize(k TypeKind, v any) (any, error) {
 	switch v := v.(type) {
 	case nil:
 		return nil, nil
 	case []byte:
-		if k == TypeBinary {
-			return append([]byte(nil), v...), nil
+		switch {
+		case k == TypeBinary:
+			return v, nil
+		case k == TypeBoolean && len(v) == 1 && v[0] <= 1:
+			return v[0] == 1, nil // MySQL BIT(1)
 		}
 		return fromText(k, string(v))
 	case string:

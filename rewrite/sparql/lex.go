@@ -259,7 +259,10 @@ func lexPunct(l *lexer) stateFn {
 			return lexAny
 		}
 	}
-	r, _, _ := l.peek(l.pos)
+	r, w, esc := l.peek(l.pos)
+	if esc {
+		return l.errorf(l.pos, "the escape %s stands for %q, which is not allowed here", l.src[l.pos:l.pos+w], r)
+	}
 	return l.errorf(l.pos, "unexpected character %q", r)
 }
 

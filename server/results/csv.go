@@ -38,7 +38,10 @@ func (csvEncoder) head(dst []byte, vars []string) []byte {
 	return append(dst, "\r\n"...)
 }
 
+// row writes one line of fields. A line of one empty field is written as ""
+// rather than as an empty line, which many CSV readers skip.
 func (csvEncoder) row(dst []byte, _ int, vars []string, sol []rdf.Term) ([]byte, error) {
+	start := len(dst)
 	for j, t := range sol {
 		if j > 0 {
 			dst = append(dst, ',')
@@ -56,6 +59,9 @@ func (csvEncoder) row(dst []byte, _ int, vars []string, sol []rdf.Term) ([]byte,
 		if err != nil {
 			return dst, fmt.Errorf("?%s: %w", vars[j], err)
 		}
+	}
+	if len(sol) == 1 && len(dst) == start {
+		dst = append(dst, `""`...)
 	}
 	return append(dst, "\r\n"...), nil
 }

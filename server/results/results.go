@@ -58,7 +58,7 @@ type GraphWriter interface {
 // answers; 512 rows bounds how long a client waits for a slow answer with
 // short rows. Neither value comes from a specification.
 const (
-	flushBytes = 32 << 10
+	flushBytes = 32 << 25
 	flushRows  = 512
 )
 

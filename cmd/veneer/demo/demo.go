@@ -9,8 +9,8 @@
 package demo
 
 import (
-	_ "embed"
 	"context"
+	_ "embed"
 	"fmt"
 	"strings"
 )
@@ -63,8 +63,11 @@ func Schema(dialectName string) ([]string, error) {
 	if err != nil {
 		return nil, err
 	}
-	return splitStatements(d.slots.Replace(schemaSQL)), nil
+	return d.schema(), nil
 }
+
+// schema is schema.sql with the dialect's types in its slots, cut into statements.
+func (d dialect) schema() []string { return splitStatements(d.slots.Replace(schemaSQL)) }
 
 // splitStatements cuts a DDL text into statements at semicolons, leaving out the
 // comment lines. The schema has no semicolon inside a statement.
@@ -101,7 +104,8 @@ func Mapping() string { return mappingTTL }
 // Build creates the demo tables in an empty database or schema and fills them, running
 // every statement through exec. dialectName is "sqlite", "postgres" or "mysql"; it
 // picks the column types and the placeholder style. Every value travels as a bind
-// parameter, in multi-row INSERTs of at most maxParams parameters each.
+// parameter, in multi-row INSERTs of at most 999 parameters each, a limit every one
+// of the three databases accepts.
 //
 // Build does not open a transaction: the caller decides, and a caller that wants the
 // load to be fast or all-or-nothing runs exec inside one.
@@ -110,7 +114,7 @@ func Build(ctx context.Context, exec Exec, dialectName string) error {
 	if err != nil {
 		return err
 	}
-	for _, stmt := range splitStatements(d.slots.Replace(schemaSQL)) {
+	for _, stmt := range d.schema() {
 		if err := exec(ctx, stmt); err != nil {
 			return fmt.Errorf("demo: creating the schema (%s): %w", firstLine(stmt), err)
 		}

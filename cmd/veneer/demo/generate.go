@@ -1,7 +1,6 @@
 package demo
 
 import (
-	"cmp"
 	"fmt"
 	"math/rand/v2"
 	"slices"
@@ -79,14 +78,12 @@ func weighted(r *rand.Rand, weights []int) int {
 	for _, w := range weights {
 		total += w
 	}
-	n := r.IntN(total)
-	for i, w := range weights {
-		if n < w {
-			return i
-		}
-		n -= w
+	n, i := r.IntN(total), 0
+	for n >= weights[i] {
+		n -= weights[i]
+		i++
 	}
-	return len(weights) - 1
+	return i
 }
 
 // between returns a time in [from, to), to the minute.
@@ -110,14 +107,14 @@ func nullable[T any](v T, ok bool) any {
 // ---- sites ----
 
 type site struct {
-	id                   int64
-	code, name           string
-	country, region      string
-	commissioned         time.Time
-	latitude, longitude  int64 // micro-degrees
-	offshore             bool
-	turbines             int
-	models               []int // indexes into turbineModels
+	id                  int64
+	code, name          string
+	country, region     string
+	commissioned        time.Time
+	latitude, longitude int64 // micro-degrees
+	offshore            bool
+	turbines            int
+	models              []int // indexes into turbineModels
 }
 
 // siteSpecs are the operator's six wind farms. The places are real regions; the farms
@@ -167,10 +164,12 @@ var turbineModels = []turbineModel{
 }
 
 var (
-	turbineStatuses       = []string{"operating", "maintenance", "stopped", "decommissioned"}
-	turbineStatusWeights  = []int{84, 7, 6, 3}
-	decommissionedTurbine = 3
+	turbineStatuses      = []string{"operating", "maintenance", "stopped", "decommissioned"}
+	turbineStatusWeights = []int{84, 7, 6, 3}
 )
+
+// decommissioned is the index of "decommissioned" in turbineStatuses.
+const decommissioned = 3
 
 type turbine struct {
 	id, siteID   int64
@@ -202,7 +201,7 @@ func makeTurbines(sites []site) []turbine {
 			t.status = turbineStatuses[status]
 			// A decommissioned turbine's controller is gone, and now and then a
 			// digest was never read out.
-			if status != decommissionedTurbine && r.IntN(100) >= 3 {
+			if status != decommissioned && r.IntN(100) >= 3 {
 				t.digest = make([]byte, 16)
 				for i := range t.digest {
 					t.digest[i] = byte(r.UintN(256))
@@ -232,8 +231,6 @@ var (
 	employers = []string{"Operator maintenance team", "Nordvind Service A/S",
 		"Atlantic Rope & Blade Ltd", "Técnicas Eólicas del Ebro S.L.", `"Hochwind" Montage GmbH`}
 	employerWeights = []int{40, 25, 15, 12, 8}
-	// levelWeights are the weights of certification levels 1 (trainee) to 4 (lead).
-	levelWeights = []int{15, 35, 35, 15}
 )
 
 type technician struct {
@@ -250,12 +247,16 @@ func makeTechnicians() []technician {
 	technicians := make([]technician, numTechnicians)
 	for i := range technicians {
 		n := names[i]
+		hired := betweenDays(r, date(2008, 1, 1), date(2025, 1, 1))
+		// Certification levels run from 1 (trainee) to 4 (lead) and come with years
+		// of service: a level about every five years, a year or two early for some.
+		years := dataEnd.Year() - hired.Year()
 		technicians[i] = technician{
 			id:       int64(i + 1),
 			name:     firstNames[n/len(lastNames)] + " " + lastNames[n%len(lastNames)],
 			employer: employers[weighted(r, employerWeights)],
-			level:    int64(weighted(r, levelWeights) + 1),
-			hired:    betweenDays(r, date(2008, 1, 1), date(2025, 1, 1)),
+			level:    int64(1 + min(3, (years+r.IntN(3))/5)),
+			hired:    hired,
 		}
 	}
 	return technicians
@@ -275,17 +276,17 @@ type partKind struct {
 	supplier int // index into suppliers
 	cents    int64
 	maxQty   int
-	bearing  bool // bearing part numbers carry a clearance class suffix
+	bearing  bool // a bearing's part number ends in its clearance class, "/C3"
 }
 
 var suppliers = []string{"Brattvik Komponenter AS", "Fournitures Éoliennes SARL",
 	"Huber & Söhne GmbH", "Kinloch Engineering Ltd", "Talleres Ebro S.A.", "O'Rourke Hydraulics"}
 
 var partKinds = []partKind{
-	{"PBS", "Pitch bearing seal kit", 0, 48_000, 3, true},
+	{"PBS", "Pitch bearing seal kit", 0, 48_000, 3, false},
 	{"YBP", "Yaw brake pad", 2, 21_500, 8, false},
 	{"GOF", "Gearbox oil filter", 2, 9_800, 2, false},
-	{"MBG", "Main bearing grease cartridge", 1, 6_450, 6, true},
+	{"MBG", "Main bearing grease cartridge", 1, 6_450, 6, false},
 	{"SRB", "Slip ring brush set", 3, 31_200, 2, false},
 	{"IGB", "Converter IGBT module", 2, 265_000, 2, false},
 	{"ANM", "Ultrasonic anemometer", 3, 182_000, 1, false},
@@ -294,13 +295,13 @@ var partKinds = []partKind{
 	{"LRC", "Lightning receptor", 0, 12_300, 3, false},
 	{"HAC", "Hydraulic accumulator", 5, 143_000, 1, false},
 	{"GCB", "Generator carbon brush", 2, 2_850, 12, false},
-	{"CFM", "Cooling fan motor", 4, 76_500, 1, false},
+	{"GNB", "Generator bearing", 2, 96_000, 2, true},
 	{"TBS", `Tower bolt set M36 "HV"`, 2, 98_000, 4, false},
 	{"NDG", "Nacelle door gasket", 4, 8_700, 1, false},
 	{"AWL", "Aviation warning light", 1, 124_000, 1, false},
 	{"CFT", "Converter cabinet filter mat", 4, 1_990, 6, false},
 	{"PME", "Pitch motor encoder", 0, 67_400, 1, false},
-	{"YDP", "Yaw drive pinion", 0, 412_000, 1, true},
+	{"YDP", "Yaw drive pinion", 0, 412_000, 1, false},
 	{"BRC", "Rotor brake caliper", 2, 233_000, 1, false},
 	{"HOP", "Gearbox oil pump", 4, 189_500, 1, false},
 	{"TPT", "PT100 temperature sensor, −40…+150 °C", 3, 4_300, 4, false},
@@ -376,23 +377,30 @@ var (
 	priorities      = []string{"low", "medium", "high", "critical"}
 	// priorityWeights are the weights of priorities, per category.
 	priorityWeights = [][]int{
-		{10, 40, 35, 15},
-		{50, 45, 5, 0},
-		{20, 50, 25, 5},
-		{60, 40, 0, 0},
-		{0, 20, 50, 30},
+		corrective:         {10, 40, 35, 15},
+		preventive:         {50, 45, 5, 0},
+		inspectionFollowup: {20, 50, 25, 5},
+		retrofit:           {60, 40, 0, 0},
+		safety:             {0, 20, 50, 30},
 	}
 	// repairHours bounds how long work of each priority takes, from opening to closing.
 	repairHours = [][2]int{{48, 1440}, {24, 720}, {6, 240}, {2, 72}}
 )
 
-// The categories that partUsage and the descriptions tell apart.
+// Indexes into categories, for the tables that differ by category.
 const (
 	corrective = iota
 	preventive
 	inspectionFollowup
 	retrofit
 	safety
+)
+
+// High and critical work (priority index high and above) goes to technicians
+// certified to seniorLevel or above, and so do inspections.
+const (
+	high        = 2
+	seniorLevel = 2
 )
 
 type workOrder struct {
@@ -410,6 +418,7 @@ type workOrder struct {
 
 func makeWorkOrders(sites []site, turbines []turbine, technicians []technician) []workOrder {
 	r := newRand(streamWorkOrder)
+	seniors := seniorTechnicians(technicians)
 	opened := make([]time.Time, numWorkOrders)
 	for i := range opened {
 		opened[i] = between(r, dataStart, dataEnd)
@@ -427,18 +436,23 @@ func makeWorkOrders(sites []site, turbines []turbine, technicians []technician) 
 		w.number = fmt.Sprintf("WO-%d-%05d", w.opened.Year(), w.id)
 		w.priority = weighted(r, priorityWeights[w.category])
 		w.status = orderStatus(r, dataEnd.Sub(w.opened))
-		if w.status == "closed" || w.status == "cancelled" {
+		switch w.status {
+		case "closed":
 			h := repairHours[w.priority]
 			w.closed = w.opened.Add(time.Duration(h[0]*60+r.IntN((h[1]-h[0])*60)) * time.Minute)
-			if w.status == "cancelled" {
-				w.closed = w.opened.Add(time.Duration(60+r.IntN(14*24*60)) * time.Minute)
-			}
-			if !w.closed.Before(dataEnd) {
-				w.status, w.closed = "in_progress", time.Time{}
-			}
+		case "cancelled":
+			w.closed = w.opened.Add(time.Duration(60+r.IntN(14*24*60)) * time.Minute)
+		}
+		// Work that would end after the records were taken is still in hand.
+		if !w.closed.IsZero() && !w.closed.Before(dataEnd) {
+			w.status, w.closed = "in_progress", time.Time{}
 		}
 		if assigned(r, w.status) {
-			w.technicianID = pickTechnician(r, technicians, w.priority).id
+			if w.priority >= high {
+				w.technicianID = pick(r, seniors).id
+			} else {
+				w.technicianID = pick(r, technicians).id
+			}
 		}
 		w.description = describe(r, w.category, sites[t.siteID-1], turbineModels[t.model])
 		orders[i] = w
@@ -472,15 +486,9 @@ func assigned(r *rand.Rand, status string) bool {
 	return true
 }
 
-// pickTechnician chooses a technician for work of a priority; high and critical work
-// goes to certification level 2 and up.
-func pickTechnician(r *rand.Rand, technicians []technician, priority int) technician {
-	for {
-		t := pick(r, technicians)
-		if priority < 2 || t.level >= 2 {
-			return t
-		}
-	}
+// seniorTechnicians returns the technicians certified to seniorLevel or above.
+func seniorTechnicians(technicians []technician) []technician {
+	return slices.DeleteFunc(slices.Clone(technicians), func(t technician) bool { return t.level < seniorLevel })
 }
 
 var (
@@ -563,12 +571,12 @@ const passVibration = 4.5
 
 var (
 	// bladeWeights are the weights of blade condition scores 1 (poor) to 5 (as new).
-	bladeWeights = []int{4, 10, 26, 40, 20}
-	failNotes    = []string{
+	bladeWeights = []int{2, 6, 27, 43, 22}
+	// failNotes are the notes of inspections failed for the blades' sake.
+	failNotes = []string{
 		"Leading-edge erosion on blade {blade} beyond repair limit",
 		`Blade "{blade}" lightning receptor missing`,
 		"Crack indication near root of blade {blade}; drone images attached",
-		"Vibration above limit at 1P — refer to the CMS team (blade {blade} balanced last year)",
 	}
 	passNotes = []string{
 		"Minor erosion on blade {blade}, monitor",
@@ -591,6 +599,7 @@ type inspection struct {
 
 func makeInspections(turbines []turbine, technicians []technician) []inspection {
 	r := newRand(streamInspection)
+	seniors := seniorTechnicians(technicians)
 	days := make([]time.Time, numInspections)
 	for i := range days {
 		days[i] = betweenDays(r, dataStart, dataEnd)
@@ -601,13 +610,16 @@ func makeInspections(turbines []turbine, technicians []technician) []inspection 
 		in := inspection{
 			id:           int64(i + 1),
 			turbineID:    pick(r, turbines).id,
-			technicianID: pickTechnician(r, technicians, 2).id,
+			technicianID: pick(r, seniors).id,
 			on:           days[i],
 			blade:        int64(weighted(r, bladeWeights) + 1),
 			vibration:    vibration(r),
 		}
 		in.passed = in.blade >= 3 && in.vibration < passVibration
 		switch {
+		case in.vibration >= passVibration:
+			in.notes = "Vibration of " + strconv.FormatFloat(in.vibration, 'f', 2, 64) +
+				" mm/s at 1P — refer to the CMS team"
 		case !in.passed:
 			in.notes = strings.ReplaceAll(pick(r, failNotes), "{blade}", pick(r, blades))
 		case r.IntN(100) < 35:
@@ -651,7 +663,8 @@ type partUsage struct {
 }
 
 // makePartUsage draws the parts used by work in hand or done: parts of the turbine's
-// model, or retrofit kits for retrofits.
+// model, or retrofit kits for retrofits. The rows come out in key order: by work
+// order, then by part, since a kind's parts are numbered in kind order.
 func makePartUsage(orders []workOrder, turbines []turbine, parts []part) []partUsage {
 	r := newRand(streamPartUsage)
 	var usage []partUsage
@@ -675,9 +688,6 @@ func makePartUsage(orders []workOrder, turbines []turbine, parts []part) []partU
 			})
 		}
 	}
-	slices.SortFunc(usage, func(a, b partUsage) int {
-		return cmp.Or(cmp.Compare(a.workOrderID, b.workOrderID), cmp.Compare(a.partID, b.partID))
-	})
 	return usage
 }
 

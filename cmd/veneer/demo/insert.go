@@ -6,8 +6,9 @@ import (
 )
 
 // maxParams bounds the bind parameters of one INSERT. 999 is the smallest limit among
-// the three databases (SQLite's before version 3.32; PostgreSQL and MySQL allow 65535),
-// so a batch fits every server the demo may be loaded into.
+// the three databases (SQLite's default before version 3.32; PostgreSQL and MySQL
+// allow 65535; all three figures from memory of their documentation), so a batch fits
+// every server the demo may be loaded into.
 const maxParams = 999
 
 // statement is one SQL statement and its bind parameters.

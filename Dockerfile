@@ -1,0 +1,15 @@
+# Build: a static binary (the SQLite driver is pure Go, so no C toolchain is needed).
+FROM golang:1.26-bookworm AS build
+WORKDIR /src
+COPY go.mod go.sum ./
+RUN go mod download
+COPY . .
+RUN CGO_ENABLED=0 go build -trimpath -ldflags='-s -w' -o /out/veneer ./cmd/veneer
+
+# Run: no shell, no package manager, a non-root user.
+FROM gcr.io/distroless/static-debian12:nonroot
+COPY --from=build /out/veneer /usr/local/bin/veneer
+USER nonroot:nonroot
+EXPOSE 7531
+ENTRYPOINT ["/usr/local/bin/veneer", "serve"]
+CMD ["--listen", "0.0.0.0:7531"]

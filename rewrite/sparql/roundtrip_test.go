@@ -1,0 +1,116 @@
+package sparql_test
+
+import (
+	"os"
+	"path/filepath"
+	"reflect"
+	"strings"
+	"testing"
+
+	"veneer/rewrite/sparql"
+)
+
+// stripPositions zeroes every position and the source text in a tree, so that
+// trees parsed from different texts can be compared.
+func stripPositions(v reflect.Value) {
+	switch v.Kind() {
+	case reflect.Pointer, reflect.Interface:
+		if !v.IsNil() {
+			stripPositions(v.Elem())
+		}
+	case reflect.Slice:
+		if v.Type().Elem() == reflect.TypeOf(sparql.Pos(0)) {
+			v.Set(reflect.Zero(v.Type()))
+			return
+		}
+		for i := 0; i < v.Len(); i++ {
+			stripPositions(v.Index(i))
+		}
+	case reflect.Struct:
+		for i := 0; i < v.NumField(); i++ {
+			f := v.Field(i)
+			switch {
+			case !f.CanSet():
+			case f.Type() == reflect.TypeOf(sparql.Pos(0)):
+				f.SetInt(0)
+			case v.Type().Field(i).Name == "Source":
+				f.SetString("")
+			default:
+				stripPositions(f)
+			}
+		}
+	}
+}
+
+// roundTrip checks the printer's property: parsing the printed text gives the
+// same tree as parsing the original, and printing that tree gives the same text.
+func roundTrip(t *testing.T, name, src, base string) bool {
+	t.Helper()
+	q1, err := sparql.ParseBase(src, base)
+	if err != nil {
+		return false // only parsable text has a round trip
+	}
+	text := q1.String()
+	q2, err := sparql.ParseBase(text, base)
+	if err != nil {
+		t.Fatalf("%s: the printed query does not parse: %v\n--- printed\n%s", name, err, text)
+	}
+	if again := q2.String(); again != text {
+		t.Fatalf("%s: printing is not stable:\n--- first\n%s--- second\n%s", name, text, again)
+	}
+	stripPositions(reflect.ValueOf(q1))
+	stripPositions(reflect.ValueOf(q2))
+	if !reflect.DeepEqual(q1, q2) {
+		t.Fatalf("%s: the printed query parses into a different tree\n--- source\n%s\n--- printed\n%s", name, src, text)
+	}
+	return true
+}
+
+// TestRoundTripW3C applies the round trip to every query file of the W3C SPARQL
+// suites (rdf-tests/sparql, all .rq files, valid or not) and to our testdata.
+func TestRoundTripW3C(t *testing.T) {
+	root := filepath.Join(w3cDir(t), "rdf-tests", "sparql")
+	var files []string
+	err := filepath.WalkDir(root, func(path string, d os.DirEntry, err error) error {
+		if err == nil && !d.IsDir() && strings.HasSuffix(path, ".rq") {
+			files = append(files, path)
+		}
+		return err
+	})
+	if err != nil {
+		t.Fatal(err)
+	}
+	local, _ := filepath.Glob("testdata/*.rq")
+	files = append(files, local...)
+	if len(files) < 500 {
+		t.Fatalf("found only %d query files under %s", len(files), root)
+	}
+	parsed := 0
+	for _, f := range files {
+		src, err := os.ReadFile(f)
+		if err != nil {
+			t.Fatal(err)
+		}
+		abs, _ := filepath.Abs(f)
+		if roundTrip(t, f, string(src), fileIRI(abs)) {
+			parsed++
+		}
+	}
+	t.Logf("round trip over %d query files, %d of which parse", len(files), parsed)
+}
+
+// FuzzParse asserts that no input makes the parser panic or hang, and that
+// whatever parses survives the print and parse round trip. The seeds are the
+// queries under testdata.
+func FuzzParse(f *testing.F) {
+	seeds, _ := filepath.Glob("testdata/*.rq")
+	for _, s := range seeds {
+		src, err := os.ReadFile(s)
+		if err == nil {
+			f.Add(string(src))
+		}
+	}
+	f.Fuzz(func(t *testing.T, src string) {
+		roundTrip(t, "fuzz input", src, "http://example.org/base/")
+	})
+}
