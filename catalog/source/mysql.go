@@ -63,6 +63,14 @@ func mysqlConfig(dsn string, o options) (*mysql.Config, error) {
 	return cfg, nil
 }
 
+// MySQLConfig returns the driver configuration Open uses for a mysql:// DSN,
+// except for the read-only session Open sets up on each connection: for tools
+// and tests that need a connection of their own, such as one that creates a
+// test database. Its errors do not contain the password.
+func MySQLConfig(dsn string) (*mysql.Config, error) {
+	return mysqlConfig(dsn, options{connectTimeout: DefaultConnectTimeout})
+}
+
 func openMySQL(dsn string, o options) (Source, error) {
 	cfg, err := mysqlConfig(dsn, o)
 	if err != nil {

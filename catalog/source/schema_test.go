@@ -1,10 +1,13 @@
-package source
+package source_test
 
 import (
 	"context"
 	"fmt"
 	"strings"
 	"testing"
+
+	"veneer/catalog/source"
+	"veneer/catalog/source/sourcetest"
 )
 
 // windFarmDDL is a schema with single and composite primary keys (one whose
@@ -42,9 +45,9 @@ var windFarmDDL = []string{
 }
 
 // A unique index that makes nothing unique (it is partial), where the dialect has them.
-var partialIndexDDL = map[Dialect]string{
-	Postgres: `CREATE UNIQUE INDEX turbine_model ON turbine (model) WHERE model IS NOT NULL`,
-	SQLite:   `CREATE UNIQUE INDEX turbine_model ON turbine (model) WHERE model IS NOT NULL`,
+var partialIndexDDL = map[source.Dialect]string{
+	source.Postgres: `CREATE UNIQUE INDEX turbine_model ON turbine (model) WHERE model IS NOT NULL`,
+	source.SQLite:   `CREATE UNIQUE INDEX turbine_model ON turbine (model) WHERE model IS NOT NULL`,
 }
 
 // The expected schema, in the form describeSchema prints, without types.
@@ -82,7 +85,7 @@ turbine
 // describeSchema prints a schema's structure without the dialect's type
 // spellings. A view column's nullability is printed as "?": the dialects derive
 // it differently.
-func describeSchema(s *Schema) string {
+func describeSchema(s *source.Schema) string {
 	var b strings.Builder
 	for _, t := range s.Tables {
 		b.WriteString(t.Name)
@@ -118,16 +121,16 @@ func describeSchema(s *Schema) string {
 }
 
 // The declared type of turbine.rated_kw, as each dialect reports it.
-var ratedKWType = map[Dialect]string{Postgres: "NUMERIC(8,1)", MySQL: "DECIMAL(8,1)", SQLite: "NUMERIC(8,1)"}
+var ratedKWType = map[source.Dialect]string{source.Postgres: "NUMERIC(8,1)", source.MySQL: "DECIMAL(8,1)", source.SQLite: "NUMERIC(8,1)"}
 
 func TestIntrospect(t *testing.T) {
-	forEachDB(t, func(t *testing.T, db *testDB) {
-		db.exec(t, windFarmDDL...)
-		if ddl := partialIndexDDL[db.dialect]; ddl != "" {
-			db.exec(t, ddl)
+	sourcetest.ForEach(t, func(t *testing.T, db *sourcetest.DB) {
+		db.Exec(t, windFarmDDL...)
+		if ddl := partialIndexDDL[db.Dialect]; ddl != "" {
+			db.Exec(t, ddl)
 		}
-		src := db.open(t)
-		s, err := Introspect(context.Background(), src, "")
+		src := db.Open(t)
+		s, err := source.Introspect(context.Background(), src, "")
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -137,12 +140,12 @@ func TestIntrospect(t *testing.T) {
 		if s.Name == "" || s.Tables[0].Schema != s.Name {
 			t.Errorf("schema name %q, table schema %q", s.Name, s.Tables[0].Schema)
 		}
-		if got := s.Table("turbine").Column("rated_kw").DatabaseType; got != ratedKWType[db.dialect] {
-			t.Errorf("rated_kw type %q, want %q", got, ratedKWType[db.dialect])
+		if got := s.Table("turbine").Column("rated_kw").DatabaseType; got != ratedKWType[db.Dialect] {
+			t.Errorf("rated_kw type %q, want %q", got, ratedKWType[db.Dialect])
 		}
 
 		// Naming the schema gives the same result.
-		named, err := Introspect(context.Background(), src, s.Name)
+		named, err := source.Introspect(context.Background(), src, s.Name)
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -153,12 +156,12 @@ func TestIntrospect(t *testing.T) {
 }
 
 func TestIntrospectUnknownSchema(t *testing.T) {
-	forEachDB(t, func(t *testing.T, db *testDB) {
-		src := db.open(t)
-		s, err := Introspect(context.Background(), src, "no_such_schema_x")
+	sourcetest.ForEach(t, func(t *testing.T, db *sourcetest.DB) {
+		src := db.Open(t)
+		s, err := source.Introspect(context.Background(), src, "no_such_schema_x")
 		switch {
-		case db.dialect == SQLite && err == nil:
-			t.Errorf("no error for an SQLite schema that is not attached")
+		case db.Dialect == source.SQLite && err == nil:
+			t.Errorf("no error for an source.SQLite schema that is not attached")
 		case err == nil && len(s.Tables) != 0:
 			t.Errorf("tables in a schema that does not exist: %v", describeSchema(s))
 		}
@@ -167,12 +170,12 @@ func TestIntrospectUnknownSchema(t *testing.T) {
 
 // TestSQLiteImplicitReference checks that a foreign key without a column list
 // references the parent's primary key, and that the parent's name is taken
-// as the table has it (SQLite matches names without regard to case).
+// as the table has it (source.SQLite matches names without regard to case).
 func TestSQLiteImplicitReference(t *testing.T) {
-	db := sqliteDB(t)
-	db.exec(t, `CREATE TABLE Part (maker TEXT, code TEXT, PRIMARY KEY (maker, code))`,
+	db := sourcetest.New(t, source.SQLite)
+	db.Exec(t, `CREATE TABLE Part (maker TEXT, code TEXT, PRIMARY KEY (maker, code))`,
 		`CREATE TABLE stock (maker TEXT, code TEXT, qty INTEGER, FOREIGN KEY (maker, code) REFERENCES PART)`)
-	s, err := Introspect(context.Background(), db.open(t), "")
+	s, err := source.Introspect(context.Background(), db.Open(t), "")
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -1,4 +1,4 @@
-package source
+package source_test
 
 import (
 	"bytes"
@@ -9,15 +9,18 @@ import (
 	"strings"
 	"testing"
 	"time"
+
+	"veneer/catalog/source"
+	"veneer/catalog/source/sourcetest"
 )
 
 // TestReadOnly checks that a statement that writes fails on every dialect and
 // leaves the table as it was.
 func TestReadOnly(t *testing.T) {
-	forEachDB(t, func(t *testing.T, db *testDB) {
-		db.exec(t, "CREATE TABLE turbine (id INTEGER PRIMARY KEY, name VARCHAR(20))",
+	sourcetest.ForEach(t, func(t *testing.T, db *sourcetest.DB) {
+		db.Exec(t, "CREATE TABLE turbine (id INTEGER PRIMARY KEY, name VARCHAR(20))",
 			"INSERT INTO turbine (id, name) VALUES (1, 'T-01')")
-		src := db.open(t)
+		src := db.Open(t)
 		for _, stmt := range []string{
 			"INSERT INTO turbine (id, name) VALUES (2, 'T-02')",
 			"UPDATE turbine SET name = 'changed'",
@@ -32,7 +35,7 @@ func TestReadOnly(t *testing.T) {
 		}
 		var n int
 		var name string
-		if err := db.admin.QueryRow("SELECT COUNT(*), MAX(name) FROM turbine").Scan(&n, &name); err != nil {
+		if err := db.Admin.QueryRow("SELECT COUNT(*), MAX(name) FROM turbine").Scan(&n, &name); err != nil {
 			t.Fatal(err)
 		}
 		if n != 1 || name != "T-01" {
@@ -42,7 +45,7 @@ func TestReadOnly(t *testing.T) {
 }
 
 // run runs a statement to its end and returns the first error on the way.
-func run(ctx context.Context, src Source, stmt string) error {
+func run(ctx context.Context, src source.Source, stmt string) error {
 	rows, err := src.Query(ctx, stmt)
 	if err != nil {
 		return err
@@ -60,7 +63,7 @@ func run(ctx context.Context, src Source, stmt string) error {
 // and the value of the first row (the second row is all NULL).
 type valueCase struct {
 	col  string
-	kind TypeKind
+	kind source.TypeKind
 	want any
 }
 
@@ -71,22 +74,22 @@ func utc(y int, m time.Month, d, hh, mm, ss, ns int) time.Time {
 // The values every dialect stores the same way. The expected Go values follow
 // the contract in source.go; the decimal keeps its scale where the database does.
 var commonValues = []valueCase{
-	{"i", TypeInteger, int64(42)},
-	{"big", TypeInteger, int64(9007199254740993)}, // 2^53+1: not exact as a float64
-	{"d", TypeFloat, 1.5},
-	{"r", TypeFloat, 1.65}, // single precision, read as the shortest decimal
-	{"s", TypeString, "Nordsee Ost"},
-	{"bin", TypeBinary, []byte{0x01, 0x02, 0xff}},
-	{"dt", TypeDate, utc(2024, 3, 1, 0, 0, 0, 0)},
-	{"tm", TypeTime, "13:45:30.25"},
-	{"ts", TypeTimestamp, utc(2024, 3, 1, 13, 45, 30, 0)},
+	{"i", source.TypeInteger, int64(42)},
+	{"big", source.TypeInteger, int64(9007199254740993)}, // 2^53+1: not exact as a float64
+	{"d", source.TypeFloat, 1.5},
+	{"r", source.TypeFloat, 1.65}, // single precision, read as the shortest decimal
+	{"s", source.TypeString, "Nordsee Ost"},
+	{"bin", source.TypeBinary, []byte{0x01, 0x02, 0xff}},
+	{"dt", source.TypeDate, utc(2024, 3, 1, 0, 0, 0, 0)},
+	{"tm", source.TypeTime, "13:45:30.25"},
+	{"ts", source.TypeTimestamp, utc(2024, 3, 1, 13, 45, 30, 0)},
 }
 
-var valueTests = map[Dialect]struct {
+var valueTests = map[source.Dialect]struct {
 	setup []string
 	cols  []valueCase
 }{
-	Postgres: {
+	source.Postgres: {
 		setup: []string{
 			`CREATE TABLE vals (id integer PRIMARY KEY, i integer, big bigint, n numeric(10,2),
 				d double precision, r real, b boolean, s varchar(20), bin bytea, dt date, tm time,
@@ -96,11 +99,11 @@ var valueTests = map[Dialect]struct {
 			`INSERT INTO vals (id) VALUES (2)`,
 		},
 		cols: slices.Concat(commonValues, []valueCase{
-			{"n", TypeDecimal, "-12.50"},
-			{"b", TypeBoolean, true},
-			{"tstz", TypeTimestampTZ, utc(2024, 3, 1, 11, 45, 30, 0)}}),
+			{"n", source.TypeDecimal, "-12.50"},
+			{"b", source.TypeBoolean, true},
+			{"tstz", source.TypeTimestampTZ, utc(2024, 3, 1, 11, 45, 30, 0)}}),
 	},
-	MySQL: {
+	source.MySQL: {
 		setup: []string{
 			`CREATE TABLE vals (id INT PRIMARY KEY, i INT, big BIGINT, n DECIMAL(10,2), d DOUBLE,
 				r FLOAT, b BOOLEAN, s VARCHAR(20), bin VARBINARY(10), dt DATE, tm TIME(2),
@@ -110,14 +113,14 @@ var valueTests = map[Dialect]struct {
 			`INSERT INTO vals (id) VALUES (2)`,
 		},
 		cols: slices.Concat(commonValues, []valueCase{
-			{"n", TypeDecimal, "-12.50"},
-			// MySQL's result metadata cannot tell BOOLEAN from TINYINT; see
+			{"n", source.TypeDecimal, "-12.50"},
+			// source.MySQL's result metadata cannot tell BOOLEAN from TINYINT; see
 			// TestMySQLBooleanHint.
-			{"b", TypeInteger, int64(1)},
+			{"b", source.TypeInteger, int64(1)},
 			// TIMESTAMP is shown in the session's zone, without one.
-			{"tsz", TypeTimestamp, utc(2024, 3, 1, 13, 45, 30, 0)}}),
+			{"tsz", source.TypeTimestamp, utc(2024, 3, 1, 13, 45, 30, 0)}}),
 	},
-	SQLite: {
+	source.SQLite: {
 		setup: []string{
 			`CREATE TABLE vals (id INTEGER PRIMARY KEY, i INTEGER, big BIGINT, n NUMERIC(10,2),
 				d DOUBLE, r REAL, b BOOLEAN, s VARCHAR(20), bin BLOB, dt DATE, tm TIME,
@@ -127,29 +130,29 @@ var valueTests = map[Dialect]struct {
 			`INSERT INTO vals (id) VALUES (2)`,
 		},
 		cols: slices.Concat(commonValues, []valueCase{
-			// NUMERIC affinity stores '-12.50' as the REAL -12.5 (SQLite,
-			// "Datatypes In SQLite" §3): the scale is gone before we read it.
-			{"n", TypeDecimal, "-12.5"},
-			{"b", TypeBoolean, true},
-			{"tstz", TypeTimestampTZ, utc(2024, 3, 1, 11, 45, 30, 0)}}),
+			// NUMERIC affinity stores '-12.50' as the REAL -12.5 (source.SQLite,
+			// "Datatypes In source.SQLite" §3): the scale is gone before we read it.
+			{"n", source.TypeDecimal, "-12.5"},
+			{"b", source.TypeBoolean, true},
+			{"tstz", source.TypeTimestampTZ, utc(2024, 3, 1, 11, 45, 30, 0)}}),
 	},
 }
 
 // TestValues checks the kind and Go value of each type on each dialect, read
-// both without bind parameters and with one (MySQL then uses its binary
+// both without bind parameters and with one (source.MySQL then uses its binary
 // protocol, whose values differ from the text protocol's).
 func TestValues(t *testing.T) {
-	forEachDB(t, func(t *testing.T, db *testDB) {
-		tc := valueTests[db.dialect]
-		db.exec(t, tc.setup...)
-		src := db.open(t)
+	sourcetest.ForEach(t, func(t *testing.T, db *sourcetest.DB) {
+		tc := valueTests[db.Dialect]
+		db.Exec(t, tc.setup...)
+		src := db.Open(t)
 		var names []string
 		for _, c := range tc.cols {
 			names = append(names, c.col)
 		}
 		list := strings.Join(names, ", ")
 		placeholder := "?"
-		if db.dialect == Postgres {
+		if db.Dialect == source.Postgres {
 			placeholder = "$1"
 		}
 		for _, q := range []struct {
@@ -197,16 +200,16 @@ func sameValue(got, want any) bool {
 }
 
 // TestTimestampZones checks that zone-less timestamps come back in UTC, and
-// that SQLite's zoned ones keep the offset their text has.
+// that source.SQLite's zoned ones keep the offset their text has.
 func TestTimestampZones(t *testing.T) {
-	forEachDB(t, func(t *testing.T, db *testDB) {
-		db.exec(t, valueTests[db.dialect].setup...)
-		src := db.open(t)
+	sourcetest.ForEach(t, func(t *testing.T, db *sourcetest.DB) {
+		db.Exec(t, valueTests[db.Dialect].setup...)
+		src := db.Open(t)
 		_, rows := collect(t, src, "SELECT ts FROM vals WHERE id = 1")
 		if ts := rows[0][0].(time.Time); ts.Location() != time.UTC {
 			t.Errorf("timestamp in %v, want UTC", ts.Location())
 		}
-		if db.dialect != SQLite {
+		if db.Dialect != source.SQLite {
 			return
 		}
 		_, rows = collect(t, src, "SELECT tstz FROM vals WHERE id = 1")
@@ -216,20 +219,20 @@ func TestTimestampZones(t *testing.T) {
 	})
 }
 
-// TestMySQLBooleanHint checks that a Kinds argument turns MySQL's TINYINT(1)
+// TestMySQLBooleanHint checks that a source.Kinds argument turns source.MySQL's TINYINT(1)
 // and BIT(1) into booleans, and that hinted columns are normalised to the hint.
 func TestMySQLBooleanHint(t *testing.T) {
-	db := mysqlDB(t)
-	db.exec(t, "CREATE TABLE flags (id INT PRIMARY KEY, ok BOOLEAN, lit BIT(1))",
+	db := sourcetest.New(t, source.MySQL)
+	db.Exec(t, "CREATE TABLE flags (id INT PRIMARY KEY, ok BOOLEAN, lit BIT(1))",
 		"INSERT INTO flags VALUES (1, TRUE, b'1'), (2, FALSE, b'0'), (3, NULL, NULL)")
-	src := db.open(t)
-	for _, args := range [][]any{{Kinds{TypeOther, TypeBoolean, TypeBoolean}}, {Kinds{0, TypeBoolean, TypeBoolean}, int64(0)}} {
+	src := db.Open(t)
+	for _, args := range [][]any{{source.Kinds{source.TypeOther, source.TypeBoolean, source.TypeBoolean}}, {source.Kinds{0, source.TypeBoolean, source.TypeBoolean}, int64(0)}} {
 		q := "SELECT id, ok, lit FROM flags ORDER BY id"
 		if len(args) > 1 {
 			q = "SELECT id, ok, lit FROM flags WHERE id > ? ORDER BY id"
 		}
 		cols, rows := collect(t, src, q, args...)
-		if cols[0].Kind != TypeInteger || cols[1].Kind != TypeBoolean || cols[2].Kind != TypeBoolean {
+		if cols[0].Kind != source.TypeInteger || cols[1].Kind != source.TypeBoolean || cols[2].Kind != source.TypeBoolean {
 			t.Errorf("kinds %s %s %s, want integer boolean boolean", cols[0].Kind, cols[1].Kind, cols[2].Kind)
 		}
 		want := [][]any{{int64(1), true, true}, {int64(2), false, false}, {int64(3), nil, nil}}
@@ -239,14 +242,14 @@ func TestMySQLBooleanHint(t *testing.T) {
 	}
 }
 
-// TestSQLiteExpressionKinds checks that SQLite expression columns, which have no
+// TestSQLiteExpressionKinds checks that source.SQLite expression columns, which have no
 // declared type, take the kind of their first value, and that a hint overrides it.
 func TestSQLiteExpressionKinds(t *testing.T) {
-	db := sqliteDB(t)
-	db.exec(t, "CREATE TABLE t (x INTEGER, s TEXT)", "INSERT INTO t VALUES (1, 'a'), (2, 'b')")
-	src := db.open(t)
+	db := sourcetest.New(t, source.SQLite)
+	db.Exec(t, "CREATE TABLE t (x INTEGER, s TEXT)", "INSERT INTO t VALUES (1, 'a'), (2, 'b')")
+	src := db.Open(t)
 	cols, rows := collect(t, src, "SELECT x + 1, s || '!', x * 0.5, x > 1 FROM t ORDER BY x")
-	wantKinds := []TypeKind{TypeInteger, TypeString, TypeFloat, TypeInteger}
+	wantKinds := []source.TypeKind{source.TypeInteger, source.TypeString, source.TypeFloat, source.TypeInteger}
 	for i, k := range wantKinds {
 		if cols[i].Kind != k {
 			t.Errorf("column %d kind %s, want %s", i, cols[i].Kind, k)
@@ -255,8 +258,8 @@ func TestSQLiteExpressionKinds(t *testing.T) {
 	if fmt.Sprint(rows) != "[[2 a! 0.5 0] [3 b! 1 1]]" {
 		t.Errorf("rows %v", rows)
 	}
-	cols, rows = collect(t, src, "SELECT x > 1 FROM t ORDER BY x", Kinds{TypeBoolean})
-	if cols[0].Kind != TypeBoolean || fmt.Sprint(rows) != "[[false] [true]]" {
+	cols, rows = collect(t, src, "SELECT x > 1 FROM t ORDER BY x", source.Kinds{source.TypeBoolean})
+	if cols[0].Kind != source.TypeBoolean || fmt.Sprint(rows) != "[[false] [true]]" {
 		t.Errorf("hinted: kind %s rows %v", cols[0].Kind, rows)
 	}
 }
@@ -264,12 +267,12 @@ func TestSQLiteExpressionKinds(t *testing.T) {
 // TestBindParameters checks that arguments are bound, including text that would
 // be SQL if it were spliced into the statement.
 func TestBindParameters(t *testing.T) {
-	forEachDB(t, func(t *testing.T, db *testDB) {
-		db.exec(t, "CREATE TABLE site (id INTEGER PRIMARY KEY, name VARCHAR(40))",
+	sourcetest.ForEach(t, func(t *testing.T, db *sourcetest.DB) {
+		db.Exec(t, "CREATE TABLE site (id INTEGER PRIMARY KEY, name VARCHAR(40))",
 			"INSERT INTO site VALUES (1, 'Hornsea'), (2, 'Walney'), (3, 'x'' OR ''1''=''1')")
-		src := db.open(t)
+		src := db.Open(t)
 		p1, p2 := "?", "?"
-		if db.dialect == Postgres {
+		if db.Dialect == source.Postgres {
 			p1, p2 = "$1", "$2"
 		}
 		q := "SELECT id FROM site WHERE id > " + p1 + " AND name = " + p2
@@ -294,16 +297,16 @@ func TestBindParameters(t *testing.T) {
 
 // cancelTests are a statement that runs for long on each dialect, and a query
 // that lists the server's running statements that contain a marker.
-var cancelTests = map[Dialect]struct{ slow, running string }{
-	Postgres: {
+var cancelTests = map[source.Dialect]struct{ slow, running string }{
+	source.Postgres: {
 		"SELECT pg_sleep(60) /* MARK */",
 		"SELECT count(*) FROM pg_stat_activity WHERE state = 'active' AND query LIKE '%pg_sleep(60) /* MARK */%' AND query NOT LIKE '%pg_stat_activity%'",
 	},
-	MySQL: {
+	source.MySQL: {
 		"SELECT SLEEP(60) /* MARK */",
 		"SELECT count(*) FROM information_schema.processlist WHERE info LIKE '%SLEEP(60) /* MARK */%' AND info NOT LIKE '%processlist%'",
 	},
-	SQLite: {
+	source.SQLite: {
 		// Counts for ever; only an interrupt ends it.
 		"WITH RECURSIVE c(x) AS (SELECT 1 UNION ALL SELECT x + 1 FROM c) SELECT count(*) FROM c /* MARK */",
 		"",
@@ -314,10 +317,10 @@ var cancelTests = map[Dialect]struct{ slow, running string }{
 // call returns an error that wraps the context's, and the server no longer runs
 // the statement.
 func TestCancel(t *testing.T) {
-	forEachDB(t, func(t *testing.T, db *testDB) {
-		src := db.open(t)
-		tc := cancelTests[db.dialect]
-		mark := throwAwayName()
+	sourcetest.ForEach(t, func(t *testing.T, db *sourcetest.DB) {
+		src := db.Open(t)
+		tc := cancelTests[db.Dialect]
+		mark := sourcetest.Name()
 		ctx, cancel := context.WithTimeout(context.Background(), 300*time.Millisecond)
 		defer cancel()
 		done := make(chan error, 1)
@@ -338,7 +341,7 @@ func TestCancel(t *testing.T) {
 		// MariaDB statement whose client has gone runs on for seconds.
 		var n int
 		for range 20 {
-			if err := db.admin.QueryRow(strings.ReplaceAll(tc.running, "MARK", mark)).Scan(&n); err != nil {
+			if err := db.Admin.QueryRow(strings.ReplaceAll(tc.running, "MARK", mark)).Scan(&n); err != nil {
 				t.Fatal(err)
 			}
 			if n == 0 {
@@ -359,9 +362,9 @@ func TestCancel(t *testing.T) {
 // TestConnectionsReleased runs more queries than the pool has connections,
 // closing each (some before their end), so a leaked connection would block.
 func TestConnectionsReleased(t *testing.T) {
-	forEachDB(t, func(t *testing.T, db *testDB) {
-		db.exec(t, "CREATE TABLE part (id INTEGER PRIMARY KEY)", "INSERT INTO part VALUES (1), (2), (3)")
-		src := db.open(t, MaxConns(2))
+	sourcetest.ForEach(t, func(t *testing.T, db *sourcetest.DB) {
+		db.Exec(t, "CREATE TABLE part (id INTEGER PRIMARY KEY)", "INSERT INTO part VALUES (1), (2), (3)")
+		src := db.Open(t, source.MaxConns(2))
 		ctx, cancel := context.WithTimeout(context.Background(), 20*time.Second)
 		defer cancel()
 		for i := range 10 {
@@ -380,4 +383,27 @@ func TestConnectionsReleased(t *testing.T) {
 			}
 		}
 	})
+}
+
+// collect runs a query and returns the rows' values, failing the test on error.
+func collect(t *testing.T, src source.Source, query string, args ...any) ([]source.Column, [][]any) {
+	t.Helper()
+	ctx, cancel := context.WithTimeout(context.Background(), 30*time.Second)
+	defer cancel()
+	rows, err := src.Query(ctx, query, args...)
+	if err != nil {
+		t.Fatalf("%s: %v", query, err)
+	}
+	defer rows.Close()
+	var out [][]any
+	for rows.Next() {
+		out = append(out, append([]any(nil), rows.Values()...))
+	}
+	if err := rows.Err(); err != nil {
+		t.Fatalf("%s: %v", query, err)
+	}
+	if err := rows.Close(); err != nil {
+		t.Fatalf("%s: close: %v", query, err)
+	}
+	return rows.Columns(), out
 }

@@ -519,7 +519,8 @@ func lexName(l *lexer) stateFn {
 			return lexWord
 		}
 	}
-	at++ // the ':'
+	_, colon, _ := l.peek(at)
+	at += colon
 	r, w, esc := l.peek(at)
 	startsLocal := isPNCharsU(r) || r == ':' || ('0' <= r && r <= '9') ||
 		(!esc && (r == '%' || r == '\\'))

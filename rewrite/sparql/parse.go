@@ -769,6 +769,8 @@ func (p *parser) parseGroupGraphPatternSub(open Pos) []Pattern {
 			elems = append(elems, e)
 			p.acceptPunct(".")
 			needsDot = false
+		case t.typ == tokEOF:
+			p.closeBrace(open, "group")
 		default:
 			if t.typ == tokError {
 				p.fail(t.pos, "%s", t.val)

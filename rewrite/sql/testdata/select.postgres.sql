@@ -1,0 +1,2 @@
+SELECT DISTINCT "t1"."serial" AS "c0", CAST("t1"."kw" AS TEXT) AS "c1" FROM maint."Turbine" "t1", (SELECT * FROM site) "t2" WHERE ((("t1"."site_id" = "t2"."site_id") AND ("t1"."model" COLLATE "C" < $1)) AND ("t1"."serial" IS NOT NULL)) LIMIT $2 OFFSET $3
+-- args: []interface {}{"V90", 10, 5}
