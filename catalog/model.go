@@ -43,6 +43,10 @@ type TriplesMap struct {
 	PredicateObjects []PredicateObjectMap
 }
 
+// DefaultGraph is rr:defaultGraph (R2RML §9): a graph map that produces this IRI
+// puts its triples in the default graph, not in a graph of that name.
+const DefaultGraph rdf.IRI = "http://www.w3.org/ns/r2rml#defaultGraph"
+
 // LogicalTable is the table or query whose rows a triples map reads (R2RML §5).
 // Exactly one of TableName and Query is set.
 type LogicalTable struct {

@@ -22,7 +22,8 @@ func (l *loader) subjectMap(n node, pos catalog.Pos) (catalog.TermMap, []rdf.IRI
 
 // graphMaps reads the rr:graph and rr:graphMap properties of a subject map or
 // predicate-object map (R2RML §9). When every graph map is the constant
-// rr:defaultGraph the result is empty, which the model reads as the default graph.
+// rr:defaultGraph the result is empty, which the model reads as the default
+// graph; otherwise such a constant stays, as catalog.DefaultGraph.
 func (l *loader) graphMaps(props map[rdf.IRI][]stmt) []catalog.TermMap {
 	var gs []catalog.TermMap
 	for _, st := range props[rrGraph] {
@@ -38,7 +39,7 @@ func (l *loader) graphMaps(props map[rdf.IRI][]stmt) []catalog.TermMap {
 		}
 	}
 	for _, g := range gs {
-		if g.Kind != catalog.Constant || g.Constant != rrDefaultGraph {
+		if g.Kind != catalog.Constant || g.Constant != catalog.DefaultGraph {
 			return gs
 		}
 	}

@@ -39,11 +39,10 @@ const (
 	rrChild              rdf.IRI = NS + "child"
 	rrParent             rdf.IRI = NS + "parent"
 
-	rrIRI          rdf.IRI = NS + "IRI"
-	rrBlankNode    rdf.IRI = NS + "BlankNode"
-	rrLiteral      rdf.IRI = NS + "Literal"
-	rrDefaultGraph rdf.IRI = NS + "defaultGraph"
-	rrSQL2008      rdf.IRI = NS + "SQL2008"
+	rrIRI       rdf.IRI = NS + "IRI"
+	rrBlankNode rdf.IRI = NS + "BlankNode"
+	rrLiteral   rdf.IRI = NS + "Literal"
+	rrSQL2008   rdf.IRI = NS + "SQL2008"
 )
 
 // role is the part a resource of the mapping graph plays; it decides which

@@ -109,7 +109,7 @@ func isBlankKey(k string) bool { return strings.HasPrefix(k, "_:") }
 // refine computes one round of new colours and returns the number of distinct colours.
 func (g *isoGraph) refine() int {
 	next := make(map[string]uint64, len(g.colour))
-	before := len(g.distinct(g.colour))
+	before := len(distinct(g.colour))
 	for _, n := range g.blanks {
 		sigs := make([]uint64, 0, len(g.byBlank[n]))
 		for _, q := range g.byBlank[n] {
@@ -136,12 +136,12 @@ func (g *isoGraph) refine() int {
 		next[n] = h.Sum64()
 	}
 	g.colour = next
-	d := len(g.distinct(next))
+	d := len(distinct(next))
 	g.changed = d != before
 	return d
 }
 
-func (g *isoGraph) distinct(c map[string]uint64) map[uint64]bool {
+func distinct(c map[string]uint64) map[uint64]bool {
 	d := map[uint64]bool{}
 	for _, v := range c {
 		d[v] = true

@@ -4,7 +4,7 @@ package rdf
 // messages. Blank node labels are kept as written.
 //
 // The error, if any, is an ErrorList with one error for each bad line (the
-// reader goes on with the next line), up to maxLineErrors.
+// reader goes on with the next line), up to 20 errors.
 func ParseNTriples(name string, src []byte) (*Document, error) {
 	return parseLines(name, src, false)
 }

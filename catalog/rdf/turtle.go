@@ -266,8 +266,7 @@ func (p *turtleParser) object() node {
 	case itemString:
 		return p.rdfLiteral()
 	case itemInteger, itemDecimal, itemDouble:
-		dt := map[itemType]IRI{itemInteger: XSDInteger, itemDecimal: XSDDecimal, itemDouble: XSDDouble}[p.tok.typ]
-		lit := NewTyped(p.tok.val, dt)
+		lit := NewTyped(p.tok.val, numberTypes[p.tok.typ])
 		p.advance()
 		return node{lit, start}
 	case itemWord:
@@ -280,6 +279,9 @@ func (p *turtleParser) object() node {
 	p.fail("an object (IRI, prefixed name, blank node, collection, [ ... ] or literal)")
 	return node{}
 }
+
+// numberTypes are the datatypes of the numeric literals (RDF 1.1 Turtle §2.5.2).
+var numberTypes = map[itemType]IRI{itemInteger: XSDInteger, itemDecimal: XSDDecimal, itemDouble: XSDDouble}
 
 // rdfLiteral parses a string literal with its optional language tag or datatype.
 //

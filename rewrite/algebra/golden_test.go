@@ -1,6 +1,7 @@
 package algebra_test
 
 import (
+	"errors"
 	"flag"
 	"os"
 	"path/filepath"
@@ -54,4 +55,30 @@ func TestGolden(t *testing.T) {
 			}
 		})
 	}
+}
+
+// FuzzTranslate asserts that translating any query that parses neither panics
+// nor fails without a positioned error. The seeds are the golden inputs.
+func FuzzTranslate(f *testing.F) {
+	seeds, _ := filepath.Glob("testdata/*.rq")
+	for _, s := range seeds {
+		if src, err := os.ReadFile(s); err == nil {
+			f.Add(string(src))
+		}
+	}
+	f.Fuzz(func(t *testing.T, src string) {
+		q, err := sparql.Parse(src)
+		if err != nil {
+			return
+		}
+		a, err := algebra.Translate(q)
+		if err != nil {
+			var list sparql.ErrorList
+			if !errors.As(err, &list) || len(list) == 0 {
+				t.Fatalf("translation error without positions: %v", err)
+			}
+			return
+		}
+		_ = a.String()
+	})
 }

@@ -43,7 +43,7 @@ func (q *Query) String() string {
 		b.WriteString(")")
 	}
 	if q.Form == Describe {
-		b.WriteString("\n  (describe")
+		b.WriteString("\n  (resources")
 		for _, it := range q.Describe {
 			b.WriteString(" " + itemString(it))
 		}

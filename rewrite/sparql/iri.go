@@ -5,7 +5,7 @@ import "strings"
 // iriParts are the five components of an IRI reference (RFC 3986 §3); the has*
 // flags tell an empty component from an absent one.
 type iriParts struct {
-	scheme, authority, path, query, fragment string
+	scheme, authority, path, query, fragment   string
 	hasScheme, hasAuthority, hasQuery, hasFrag bool
 }
 

@@ -64,9 +64,7 @@ func (t token) describe() string {
 			s = string([]rune(s)[:20]) + "..."
 		}
 		return fmt.Sprintf("string %q", s)
-	case tokWord:
-		return "'" + t.val + "'"
-	default:
+	default: // words and punctuation
 		return "'" + t.val + "'"
 	}
 }

@@ -294,7 +294,11 @@ func (p *parser) parseIRI() *IRI {
 		if !ok {
 			p.fail(t.pos, "prefix %s: is not declared (add PREFIX %s: <...> before the query)", t.val, t.val)
 		}
-		return &IRI{Pos: t.pos, IRI: ns + rdf.IRI(t.local), Form: IRIPrefixed, Prefix: t.val, Local: t.local}
+		iri := ns + rdf.IRI(t.local)
+		if msg := checkIRI(string(iri)); msg != "" {
+			p.fail(t.pos, "%s:%s expands to <%s>: %s", t.val, t.local, iri, msg)
+		}
+		return &IRI{Pos: t.pos, IRI: iri, Form: IRIPrefixed, Prefix: t.val, Local: t.local}
 	}
 	p.unexpected("an IRI")
 	return nil
