@@ -14,6 +14,9 @@ import (
 // datatypes (R2RML §10.2) and to compare values in SQL.
 type Columns struct {
 	tables map[string][]source.Column
+	// keys holds, per logical table, the column sets (database names) that are
+	// unique and never NULL: a row is determined by the values of any one of them.
+	keys map[string][][]string
 }
 
 // Key identifies a logical table: its name, or its query text for a view.
@@ -28,11 +31,17 @@ func (t LogicalTable) Key() string {
 // the table's query so that it returns no row) and checks that every column a term
 // map or join condition names exists. Errors name the mapping position.
 func ProbeColumns(ctx context.Context, src source.Source, cat *Catalog) (*Columns, error) {
-	c := &Columns{tables: map[string][]source.Column{}}
+	c := &Columns{tables: map[string][]source.Column{}, keys: map[string][][]string{}}
 	for _, tm := range cat.Maps {
 		if err := c.probe(ctx, src, tm.Table, tm.Pos); err != nil {
 			return nil, err
 		}
+	}
+	// Keys make the planner's SQL simpler (no DISTINCT, no self-joins); without
+	// them every answer is still right, so a schema that cannot be read only
+	// costs speed.
+	if schema, err := source.Introspect(ctx, src, ""); err == nil {
+		c.readSchema(cat, schema)
 	}
 	for _, tm := range cat.Maps {
 		if err := c.checkMap(tm); err != nil {
@@ -65,6 +74,62 @@ func (c *Columns) probe(ctx context.Context, src source.Source, t LogicalTable, 
 	c.tables[key] = rows.Columns()
 	return nil
 }
+
+// readSchema takes from the introspected schema what a result column's metadata
+// does not say: keys, NOT NULL constraints, and the type family where the
+// declaration is more precise (MySQL reports BOOLEAN columns as plain integers).
+func (c *Columns) readSchema(cat *Catalog, schema *source.Schema) {
+	for _, tm := range cat.Maps {
+		t := tm.Table
+		if t.Query != "" {
+			continue
+		}
+		parts, err := ParseName(t.TableName)
+		if err != nil || len(parts) != 1 {
+			continue // qualified names may name another schema: no keys known
+		}
+		var table *source.Table
+		for _, st := range schema.Tables {
+			if parts[0].Matches(st.Name) {
+				table = st
+			}
+		}
+		if table == nil || table.View {
+			continue
+		}
+		var keys [][]string
+		if len(table.PrimaryKey) > 0 {
+			keys = append(keys, table.PrimaryKey)
+		}
+		for _, u := range table.UniqueKeys {
+			notNull := true
+			for _, col := range u {
+				if tc := table.Column(col); tc == nil || tc.Nullable {
+					notNull = false
+				}
+			}
+			if notNull {
+				keys = append(keys, u)
+			}
+		}
+		c.keys[t.Key()] = keys
+		cols := c.tables[t.Key()]
+		for i := range cols {
+			tc := table.Column(cols[i].Name)
+			if tc == nil {
+				continue
+			}
+			cols[i].NotNull = !tc.Nullable
+			if tc.Kind == source.TypeBoolean {
+				cols[i].Kind = source.TypeBoolean
+			}
+		}
+	}
+}
+
+// Keys returns the column sets (as the database names the columns) whose values
+// determine a row of the logical table; none for views and unknown tables.
+func (c *Columns) Keys(t LogicalTable) [][]string { return c.keys[t.Key()] }
 
 // FromClause renders a logical table as a FROM item of the dialect, with the
 // alias "t" for views.

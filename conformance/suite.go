@@ -41,9 +41,10 @@ type Group struct {
 type Test struct {
 	// ID is the test's identifier as the manifest gives it; skip lists use it.
 	ID string
-	// Run runs the test. A nil error is a pass, an error made by Skip a skip,
-	// and any other error a failure whose message is the reason. An error with a
-	// Details method adds lines that the verbose report shows.
+	// Run runs the test. A nil error is a pass, and so is an error made by
+	// FailedAsExpected; an error made by Skip is a skip; any other error is a
+	// failure whose message is the reason. An error with a Details method adds
+	// lines that the verbose report shows.
 	Run func(ctx context.Context, db *Scratch) error
 }
 
@@ -75,7 +76,8 @@ type Result struct {
 	ID      string
 	Group   string
 	Outcome Outcome
-	// Reason says why the test failed or was skipped; empty for a pass.
+	// Reason says why the test failed or was skipped; for a pass, empty or the
+	// error the test expected and got.
 	Reason string
 	// Details are further lines about a failure (such as the quads that differ).
 	Details []string
@@ -90,6 +92,16 @@ func (e *skipError) Error() string { return "skipped: " + e.reason }
 // why (for example, a part of veneer that does not exist yet).
 func Skip(reason string) error { return &skipError{reason: reason} }
 
+// expectedError is the error FailedAsExpected makes.
+type expectedError struct{ err error }
+
+func (e *expectedError) Error() string { return "failed as expected: " + e.err.Error() }
+
+// FailedAsExpected returns the error by which a test that expects an error
+// reports that it passed, with the error it got, for the verbose report: an
+// error test passes on any error, so a reader should be able to see which.
+func FailedAsExpected(err error) error { return &expectedError{err: err} }
+
 // detailer is implemented by errors that carry more lines for the report.
 type detailer interface{ Details() []string }
 
@@ -102,6 +114,11 @@ func resultOf(g *Group, t Test, err error) Result {
 	var skip *skipError
 	if errors.As(err, &skip) {
 		r.Outcome, r.Reason = Skipped, skip.reason
+		return r
+	}
+	var expected *expectedError
+	if errors.As(err, &expected) {
+		r.Reason = expected.Error()
 		return r
 	}
 	r.Outcome, r.Reason = Failed, err.Error()

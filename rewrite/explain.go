@@ -7,38 +7,77 @@ import (
 	"veneer/rewrite/algebra"
 )
 
-// Explain describes a plan for people: the SQL with its parameters, and what runs
-// in-process.
+// Explain describes a plan for people: the operator tree, with each SQL scan's
+// statement and parameters, so one can see what runs in SQL and what in-process.
 func Explain(p *Plan) string {
 	var b strings.Builder
-	if p.Stmt == nil {
-		b.WriteString("sql: none (no triples map can produce an answer)\n")
-	} else {
-		fmt.Fprintf(&b, "sql: %s\n", p.SQL)
-		for i, a := range p.Args {
-			fmt.Fprintf(&b, "  arg %d: %#v\n", i+1, a)
-		}
-	}
-	var inProcess []string
-	for _, c := range p.Checks {
-		inProcess = append(inProcess, fmt.Sprintf("check ?%s against a second term map", p.Slots[c.Slot].Var))
-	}
-	for _, f := range p.Filters {
-		inProcess = append(inProcess, "filter "+algebra.ExprString(f))
-	}
-	if p.Distinct {
-		inProcess = append(inProcess, "distinct")
-	}
-	if p.Offset > 0 || p.Limit >= 0 {
-		inProcess = append(inProcess, fmt.Sprintf("slice offset %d limit %d", p.Offset, p.Limit))
-	}
-	if len(inProcess) == 0 {
-		b.WriteString("in-process: nothing\n")
-	} else {
-		b.WriteString("in-process:\n")
-		for _, s := range inProcess {
-			b.WriteString("  " + s + "\n")
-		}
-	}
+	explainOp(&b, p.Root, 0)
 	return b.String()
+}
+
+func explainOp(b *strings.Builder, op Op, depth int) {
+	ind := strings.Repeat("  ", depth)
+	line := func(format string, args ...any) { fmt.Fprintf(b, ind+format+"\n", args...) }
+	switch op := op.(type) {
+	case *Scan:
+		if op.Stmt == nil {
+			line("sql: none (no triples map can produce an answer)")
+			return
+		}
+		line("sql: %s", op.SQL)
+		for i, a := range op.Args {
+			line("  arg %d: %#v", i+1, a)
+		}
+		for _, c := range op.Checks {
+			line("  in-process check: ?%s against a second term map", op.Slots[c.Slot].Var)
+		}
+		return
+	case *Filter:
+		exprs := make([]string, len(op.Exprs))
+		for i, e := range op.Exprs {
+			exprs[i] = algebra.ExprString(e)
+		}
+		line("in-process filter %s", strings.Join(exprs, " && "))
+		explainOp(b, op.Input, depth+1)
+	case *Extend:
+		line("in-process bind ?%s = %s", op.Var, algebra.ExprString(op.Expr))
+		explainOp(b, op.Input, depth+1)
+	case *Join:
+		line("in-process join")
+		explainOp(b, op.Left, depth+1)
+		explainOp(b, op.Right, depth+1)
+	case *LeftJoin:
+		if op.Expr != nil {
+			line("in-process optional, filter %s", algebra.ExprString(op.Expr))
+		} else {
+			line("in-process optional")
+		}
+		explainOp(b, op.Left, depth+1)
+		explainOp(b, op.Right, depth+1)
+	case *Union:
+		line("in-process union")
+		explainOp(b, op.Left, depth+1)
+		explainOp(b, op.Right, depth+1)
+	case *Minus:
+		line("in-process minus")
+		explainOp(b, op.Left, depth+1)
+		explainOp(b, op.Right, depth+1)
+	case *Values:
+		line("in-process values: %d rows of %v", len(op.Rows), op.Vars)
+	case *Group:
+		line("in-process group by %d keys, %d aggregates", len(op.Keys), len(op.Aggs))
+		explainOp(b, op.Input, depth+1)
+	case *Order:
+		line("in-process order by %d conditions", len(op.Conds))
+		explainOp(b, op.Input, depth+1)
+	case *Project:
+		line("project %v", op.Vars)
+		explainOp(b, op.Input, depth+1)
+	case *Distinct:
+		line("in-process distinct")
+		explainOp(b, op.Input, depth+1)
+	case *Slice:
+		line("in-process slice offset %d limit %d", op.Offset, op.Limit)
+		explainOp(b, op.Input, depth+1)
+	}
 }

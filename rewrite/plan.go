@@ -6,6 +6,9 @@ package rewrite
 
 import (
 	"fmt"
+	"strconv"
+
+	"veneer/catalog/rdf"
 
 	"veneer/catalog"
 	"veneer/catalog/source"
@@ -13,40 +16,33 @@ import (
 	"veneer/rewrite/sql"
 )
 
-// Plan is a query ready to run: the SQL statement, how to decode its rows into
-// solutions, and what remains to be done in-process.
+// Plan is a query ready to run: an operator tree whose leaves are SQL scans, and
+// what the query form needs to turn the root's solutions into a result.
 type Plan struct {
 	Form algebra.Form
-	// Vars are the result variables, in result order.
+	// Vars are the result variables of SELECT, in result order.
 	Vars []algebra.Var
-	// Stmt is the SQL statement; nil when no triples map can produce an answer, so
-	// the result is empty without asking the database.
-	Stmt sql.Stmt
-	// SQL and Args are Stmt printed for the source's dialect.
-	SQL  string
-	Args []any
-	// Slots decode each row: one per variable the SQL binds.
-	Slots []Slot
-	// Checks are equalities between two ways of building one variable's term that
-	// SQL could not compare; a row whose check fails is dropped.
-	Checks []Check
-	// Filters are evaluated in-process on each decoded solution (a conjunction).
-	Filters []algebra.Expr
-	// Distinct removes duplicate result solutions in-process.
-	Distinct bool
-	// Offset and Limit slice the result in-process; Limit -1 means no limit.
-	Offset, Limit int64
+	// Root yields the solutions the form consumes.
+	Root Op
+	// Template is the CONSTRUCT template (Hidden variables stand for template blank
+	// nodes, fresh per solution).
+	Template []algebra.Triple
+	// Describe lists the resources of DESCRIBE: IRIs, or variables bound by Root.
+	Describe []algebra.Item
+	// Planner plans the patterns that evaluation meets on the way: EXISTS with a
+	// solution substituted in, and the description of each DESCRIBE resource.
+	Planner *Planner
 }
 
 // Slot says how one variable's term is built from a row: by the first of its
-// Groups whose columns are not NULL; none means the variable is unbound.
+// Builders whose columns are not NULL; none means the variable is unbound.
 type Slot struct {
-	Var    algebra.Var
-	Groups []Group
+	Var      algebra.Var
+	Builders []Builder
 }
 
-// Group builds a term with one term map from some of the row's columns.
-type Group struct {
+// Builder builds a term with one term map from some of the row's columns.
+type Builder struct {
 	Map catalog.TermMap
 	// Cols are the row positions of the map's columns (Map.Columns() order), or for
 	// a constant map, the position of a marker column that is NULL in rows of the
@@ -55,11 +51,21 @@ type Group struct {
 	Kinds []source.TypeKind
 }
 
-// Check requires that the term Slot builds from the row equals the term Group builds.
+// Check requires that the term Slot builds from the row equals the term Builder
+// builds, when the Builder's columns are not NULL.
 type Check struct {
-	Slot  int
-	Group Group
+	Slot    int
+	Builder Builder
 }
+
+// Limits bound the SQL one query may turn into.
+type Limits struct {
+	// MaxUnions caps the union branches a pattern may unfold into.
+	MaxUnions int
+}
+
+// DefaultLimits are the limits a planner starts with.
+func DefaultLimits() Limits { return Limits{MaxUnions: 512} }
 
 // Planner plans queries over one catalog on one source.
 type Planner struct {
@@ -67,116 +73,186 @@ type Planner struct {
 	cols      *catalog.Columns
 	dialect   source.Dialect
 	producers []producer
+	limits    Limits
+	// keys are the column sets that determine a row, by logical table key.
+	keys map[string][][]string
 }
 
 // NewPlanner prepares a planner; cols are the catalog's columns as probed on the
 // source (catalog.ProbeColumns).
 func NewPlanner(cat *catalog.Catalog, cols *catalog.Columns, d source.Dialect) *Planner {
-	return &Planner{cat: cat, cols: cols, dialect: d, producers: producersOf(cat)}
+	pl := &Planner{cat: cat, cols: cols, dialect: d, producers: producersOf(cat),
+		limits: DefaultLimits(), keys: map[string][][]string{}}
+	for _, tm := range cat.Maps {
+		pl.keys[tm.Table.Key()] = cols.Keys(tm.Table)
+	}
+	return pl
 }
 
-// Unsupported is returned for queries that use a part of SPARQL the planner does
-// not translate yet; the server reports it as a client error naming the part.
+// SetLimits replaces the planner's limits.
+func (pl *Planner) SetLimits(l Limits) { pl.limits = l }
+
+// Dialect reports the SQL dialect the planner writes.
+func (pl *Planner) Dialect() source.Dialect { return pl.dialect }
+
+// Unsupported is returned for queries that use a part of SPARQL veneer does not
+// answer yet; the server reports it as a client error naming the part.
 type Unsupported struct{ What string }
 
 func (e *Unsupported) Error() string { return "not supported yet: " + e.What }
 
+// TooComplex is returned for a query whose SQL would exceed the planner's limits.
+type TooComplex struct{ What string }
+
+func (e *TooComplex) Error() string { return "query too complex: " + e.What }
+
+func itoa(n int) string { return strconv.Itoa(n) }
+
 // Plan plans a translated query.
 func (pl *Planner) Plan(q *algebra.Query) (*Plan, error) {
-	if q.Form != algebra.Select {
-		return nil, &Unsupported{What: "query forms other than SELECT"}
+	root, err := pl.PlanPattern(q.Root)
+	if err != nil {
+		return nil, err
 	}
-	p := &Plan{Form: q.Form, Vars: q.Vars, Limit: -1}
-	var (
-		distinct      bool
-		offset, limit int64 = 0, -1
-		project       []algebra.Var
-		filters       []algebra.Expr
-	)
-	n := q.Root
-	if s, ok := n.(algebra.Slice); ok {
-		offset, limit, n = s.Offset, s.Limit, s.Input
+	return &Plan{Form: q.Form, Vars: q.Vars, Root: root, Template: q.Template, Describe: q.Describe, Planner: pl}, nil
+}
+
+// PlanPattern plans one algebra expression: the largest subtrees SQL can express
+// become Scans, and the operators above them run in-process.
+func (pl *Planner) PlanPattern(n algebra.Node) (Op, error) {
+	q := &query{pl: pl}
+	return q.op(n, nil)
+}
+
+// op plans n in the graph context (nil: the default graph).
+func (q *query) op(n algebra.Node, graph algebra.Item) (Op, error) {
+	if r, mod, err := q.relation(n, graph); err != nil {
+		return nil, err
+	} else if r != nil {
+		return q.scan(r, mod)
 	}
-	switch d := n.(type) {
-	case algebra.Distinct:
-		distinct, n = true, d.Input
-	case algebra.Reduced:
-		distinct, n = true, d.Input
-	}
-	if pr, ok := n.(algebra.Project); ok {
-		project, n = pr.Vars, pr.Input
-	} else {
-		return nil, fmt.Errorf("planner: the query root has no projection")
-	}
-	for {
-		f, ok := n.(algebra.Filter)
-		if !ok {
-			break
+	switch n := n.(type) {
+	case algebra.Filter:
+		// Push what SQL can evaluate into the input's statement, keep the rest here.
+		if r, mod, err := q.relation(n.Input, graph); err != nil {
+			return nil, err
+		} else if r != nil && mod.limit < 0 && mod.offset == 0 {
+			residual := q.pushFilters(r, n.Exprs)
+			in, err := q.scan(r, mod)
+			if err != nil {
+				return nil, err
+			}
+			return &Filter{Input: in, Exprs: residual}, nil
 		}
-		filters = append(filters, f.Exprs...)
-		n = f.Input
-	}
-	bgp, ok := n.(algebra.BGP)
-	if !ok {
-		return nil, &Unsupported{What: fmt.Sprintf("the graph pattern %s", opName(n))}
-	}
-	u := pl.unfold(bgp)
-	p.Filters = pl.pushFilters(u, filters)
-	sqlComplete := len(p.Filters) == 0 && !u.hasChecks()
-	stmt, slots, checks := pl.statement(u, project, distinct, sqlComplete)
-	p.Slots, p.Checks = slots, checks
-	if stmt != nil && sqlComplete {
-		setSlice(stmt, offset, limit)
-	} else {
-		p.Distinct, p.Offset, p.Limit = distinct, offset, limit
-	}
-	if stmt != nil {
-		p.Stmt = stmt
-		p.SQL, p.Args = sql.Print(stmt, pl.dialect)
-	}
-	return p, nil
-}
-
-func setSlice(stmt sql.Stmt, offset, limit int64) {
-	var lp, op *int64
-	if limit >= 0 {
-		lp = &limit
-	}
-	if offset > 0 {
-		op = &offset
-	}
-	switch s := stmt.(type) {
-	case *sql.Select:
-		s.Limit, s.Offset = lp, op
-	case *sql.Union:
-		s.Limit, s.Offset = lp, op
-	}
-}
-
-func opName(n algebra.Node) string {
-	switch n.(type) {
-	case algebra.Join:
-		return "Join (group of several patterns)"
-	case algebra.LeftJoin:
-		return "OPTIONAL"
-	case algebra.Union:
-		return "UNION"
-	case algebra.Minus:
-		return "MINUS"
-	case algebra.Graph:
-		return "GRAPH"
+		in, err := q.op(n.Input, graph)
+		if err != nil {
+			return nil, err
+		}
+		return &Filter{Input: in, Exprs: n.Exprs}, nil
 	case algebra.Extend:
-		return "BIND"
+		in, err := q.op(n.Input, graph)
+		if err != nil {
+			return nil, err
+		}
+		return &Extend{Input: in, Var: n.Var, Expr: n.Expr}, nil
+	case algebra.Join:
+		l, r, err := q.pair(n.Left, n.Right, graph)
+		if err != nil {
+			return nil, err
+		}
+		return &Join{Left: l, Right: r}, nil
+	case algebra.LeftJoin:
+		l, r, err := q.pair(n.Left, n.Right, graph)
+		if err != nil {
+			return nil, err
+		}
+		return &LeftJoin{Left: l, Right: r, Expr: n.Expr}, nil
+	case algebra.Union:
+		l, r, err := q.pair(n.Left, n.Right, graph)
+		if err != nil {
+			return nil, err
+		}
+		return &Union{Left: l, Right: r}, nil
+	case algebra.Minus:
+		l, r, err := q.pair(n.Left, n.Right, graph)
+		if err != nil {
+			return nil, err
+		}
+		return &Minus{Left: l, Right: r}, nil
+	case algebra.Graph:
+		return q.op(n.Input, n.Name)
 	case algebra.Values:
-		return "VALUES"
+		return &Values{Vars: n.Vars, Rows: n.Rows}, nil
+	case algebra.Table:
+		if n.Empty {
+			return &Values{}, nil
+		}
+		return &Values{Rows: [][]rdf.Term{{}}}, nil
 	case algebra.Group:
-		return "GROUP BY / aggregates"
+		in, err := q.op(n.Input, graph)
+		if err != nil {
+			return nil, err
+		}
+		return &Group{Input: in, Keys: n.Keys, Aggs: n.Aggs}, nil
 	case algebra.OrderBy:
-		return "ORDER BY"
+		in, err := q.op(n.Input, graph)
+		if err != nil {
+			return nil, err
+		}
+		return &Order{Input: in, Conds: n.Conds}, nil
+	case algebra.Project:
+		in, err := q.op(n.Input, graph)
+		if err != nil {
+			return nil, err
+		}
+		return &Project{Input: in, Vars: n.Vars}, nil
+	case algebra.Distinct:
+		in, err := q.op(n.Input, graph)
+		if err != nil {
+			return nil, err
+		}
+		return &Distinct{Input: in}, nil
+	case algebra.Reduced:
+		in, err := q.op(n.Input, graph)
+		if err != nil {
+			return nil, err
+		}
+		return &Distinct{Input: in}, nil
+	case algebra.Slice:
+		in, err := q.op(n.Input, graph)
+		if err != nil {
+			return nil, err
+		}
+		return &Slice{Input: in, Offset: n.Offset, Limit: n.Limit}, nil
 	case algebra.PathPattern:
-		return "property paths"
+		return nil, &Unsupported{What: "property paths with *, + or ?"}
 	case algebra.Service:
-		return "SERVICE"
+		return nil, &Unsupported{What: "SERVICE"}
 	}
-	return fmt.Sprintf("%T", n)
+	return nil, &Unsupported{What: fmt.Sprintf("the algebra operator %T", n)}
+}
+
+func (q *query) pair(l, r algebra.Node, graph algebra.Item) (Op, Op, error) {
+	lo, err := q.op(l, graph)
+	if err != nil {
+		return nil, nil, err
+	}
+	ro, err := q.op(r, graph)
+	if err != nil {
+		return nil, nil, err
+	}
+	return lo, ro, nil
+}
+
+// scan closes a relation into a Scan.
+func (q *query) scan(r *rel, mod modifiers) (Op, error) {
+	if len(r.branches) == 0 {
+		return &Scan{}, nil
+	}
+	c, ok := q.closeRel(r, mod)
+	if !ok {
+		return nil, fmt.Errorf("rewrite: cannot close a relation planned as closable")
+	}
+	text, args := sql.Print(c.stmt, q.pl.dialect)
+	return &Scan{Stmt: c.stmt, SQL: text, Args: args, Slots: c.slots, Checks: c.checks}, nil
 }

@@ -7,6 +7,7 @@ package direct
 import (
 	"fmt"
 	"net/url"
+	"slices"
 	"strings"
 
 	"veneer/catalog"
@@ -55,6 +56,9 @@ func Map(s *source.Schema, base string) (*catalog.Catalog, error) {
 			parent := maps[fk.RefTable]
 			if parent == nil || fk.RefSchema != s.Name {
 				continue
+			}
+			if len(fk.RefColumns) != len(fk.Columns) || slices.Contains(fk.RefColumns, "") {
+				return nil, fmt.Errorf("direct mapping of table %q: foreign key %s does not name a referenced column for each of its columns", t.Name, fk.Name)
 			}
 			child.PredicateObjects = append(child.PredicateObjects, referenceMap(t, fk, parent, base))
 		}

@@ -84,6 +84,14 @@ func TestMapBadBase(t *testing.T) {
 	}
 }
 
+func TestMapBadForeignKey(t *testing.T) {
+	s := windFarm(source.SQLite)
+	s.Tables[0].ForeignKeys[0].RefColumns = []string{"site", ""}
+	if _, err := Map(s, "http://example.com/base/"); err == nil || !strings.Contains(err.Error(), "wo_turbine") {
+		t.Errorf("got error %v, want one naming foreign key wo_turbine", err)
+	}
+}
+
 // TestSQLiteRowidShadowed checks the error for a table whose columns hide all
 // three names of SQLite's rowid.
 func TestSQLiteRowidShadowed(t *testing.T) {

@@ -28,7 +28,7 @@ func rowIdentity(d source.Dialect, t *source.Table) (view, column string, err er
 	from := d.QuoteIdent(t.Schema) + "." + d.QuoteIdent(t.Name)
 	switch d {
 	case source.Postgres:
-		return "SELECT *, 1 AS " + d.QuoteIdent(column) + " FROM " + from, column, nil
+		return "SELECT *, ROW(tableoid, ctid)::text AS " + d.QuoteIdent(column) + " FROM " + from, column, nil
 	case source.SQLite:
 		for _, alias := range []string{"rowid", "_rowid_", "oid"} {
 			if !hasColumnFold(t, alias) {

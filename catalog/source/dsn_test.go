@@ -126,3 +126,33 @@ func TestOpenSQLiteMissingFile(t *testing.T) {
 		t.Errorf("error does not name the file: %v", err)
 	}
 }
+
+func TestPostgresConfig(t *testing.T) {
+	tests := []struct {
+		dsn  string
+		o    options
+		want int32
+	}{
+		{"postgres://h/wind", options{}, DefaultMaxConns},
+		{"postgres://h/wind?pool_max_conns=3", options{}, 3},
+		{"postgresql://h/wind?pool_max_conns=3", options{maxConns: 5}, 5},
+		{"postgres://h/wind", options{maxConns: 2}, 2},
+	}
+	for _, tt := range tests {
+		tt.o.connectTimeout = 4 * time.Second
+		cfg, err := postgresConfig(tt.dsn, tt.o)
+		if err != nil {
+			t.Errorf("%s: %v", tt.dsn, err)
+			continue
+		}
+		if cfg.MaxConns != tt.want {
+			t.Errorf("%s with %d: pool of %d, want %d", tt.dsn, tt.o.maxConns, cfg.MaxConns, tt.want)
+		}
+		if cfg.ConnConfig.ConnectTimeout != 4*time.Second {
+			t.Errorf("%s: connect timeout %v", tt.dsn, cfg.ConnConfig.ConnectTimeout)
+		}
+		if cfg.ConnConfig.RuntimeParams["bytea_output"] != "hex" || cfg.ConnConfig.RuntimeParams["datestyle"] != "ISO, YMD" {
+			t.Errorf("%s: runtime parameters %v", tt.dsn, cfg.ConnConfig.RuntimeParams)
+		}
+	}
+}

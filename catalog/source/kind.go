@@ -70,7 +70,7 @@ func mysqlKind(typ string) TypeKind {
 
 // sqliteKind classifies an SQLite declared column type. A few type names have
 // a kind of their own; the rest follow the column affinity rules of SQLite's
-// "Datatypes In SQLite" §3.1, in their order. It reports false for a column
+// "Datatypes In SQLite" §3.1 (from memory), in their order. It reports false for a column
 // without a declared type (an expression, or a column declared without one),
 // whose kind then comes from its values (sqliteValueKind).
 func sqliteKind(decl string) (TypeKind, bool) {

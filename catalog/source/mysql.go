@@ -81,12 +81,8 @@ func openMySQL(dsn string, o options) (Source, error) {
 		return nil, err
 	}
 	db := sql.OpenDB(idConnector{c})
-	maxConns := o.maxConns
-	if maxConns == 0 {
-		maxConns = DefaultMaxConns
-	}
-	db.SetMaxOpenConns(maxConns)
-	db.SetMaxIdleConns(maxConns)
+	db.SetMaxOpenConns(o.poolSize())
+	db.SetMaxIdleConns(o.poolSize())
 	db.SetConnMaxIdleTime(5 * time.Minute)
 	return &mysqlSource{db: db, connector: c}, nil
 }

@@ -19,12 +19,21 @@ const (
 type Option func(*options)
 
 type options struct {
-	maxConns       int
+	maxConns       int // 0: not set
 	connectTimeout time.Duration
 }
 
-// MaxConns bounds the number of open connections of the source's pool
-// (default DefaultMaxConns). Values below 1 are ignored.
+// poolSize is the pool size to use when the DSN does not set one.
+func (o options) poolSize() int {
+	if o.maxConns > 0 {
+		return o.maxConns
+	}
+	return DefaultMaxConns
+}
+
+// MaxConns bounds the number of open connections of the source's pool (default:
+// a postgres DSN's pool_max_conns parameter, else DefaultMaxConns). Values
+// below 1 are ignored.
 func MaxConns(n int) Option {
 	return func(o *options) {
 		if n >= 1 {
@@ -52,7 +61,7 @@ func ConnectTimeout(d time.Duration) Option {
 //
 // The errors Open returns never contain the DSN's password.
 func Open(ctx context.Context, dsn string, opts ...Option) (Source, error) {
-	o := options{maxConns: DefaultMaxConns, connectTimeout: DefaultConnectTimeout}
+	o := options{connectTimeout: DefaultConnectTimeout}
 	for _, opt := range opts {
 		opt(&o)
 	}

@@ -43,11 +43,8 @@ func postgresConfig(dsn string, o options) (*pgxpool.Config, error) {
 	if err != nil {
 		return nil, err
 	}
-	switch {
-	case o.maxConns > 0:
-		cfg.MaxConns = int32(o.maxConns)
-	case !u.Query().Has("pool_max_conns"):
-		cfg.MaxConns = DefaultMaxConns
+	if o.maxConns > 0 || !u.Query().Has("pool_max_conns") {
+		cfg.MaxConns = int32(o.poolSize())
 	}
 	cc := cfg.ConnConfig
 	cc.ConnectTimeout = o.connectTimeout

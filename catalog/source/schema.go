@@ -160,10 +160,6 @@ func integer(v any) int64 {
 	case string:
 		n, _ := strconv.ParseInt(v, 10, 64)
 		return n
-	case bool:
-		if v {
-			return 1
-		}
 	}
 	return 0
 }

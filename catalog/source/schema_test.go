@@ -161,7 +161,7 @@ func TestIntrospectUnknownSchema(t *testing.T) {
 		s, err := source.Introspect(context.Background(), src, "no_such_schema_x")
 		switch {
 		case db.Dialect == source.SQLite && err == nil:
-			t.Errorf("no error for an source.SQLite schema that is not attached")
+			t.Errorf("no error for an SQLite schema that is not attached")
 		case err == nil && len(s.Tables) != 0:
 			t.Errorf("tables in a schema that does not exist: %v", describeSchema(s))
 		}
@@ -170,7 +170,7 @@ func TestIntrospectUnknownSchema(t *testing.T) {
 
 // TestSQLiteImplicitReference checks that a foreign key without a column list
 // references the parent's primary key, and that the parent's name is taken
-// as the table has it (source.SQLite matches names without regard to case).
+// as the table has it (SQLite matches names without regard to case).
 func TestSQLiteImplicitReference(t *testing.T) {
 	db := sourcetest.New(t, source.SQLite)
 	db.Exec(t, `CREATE TABLE Part (maker TEXT, code TEXT, PRIMARY KEY (maker, code))`,

@@ -85,6 +85,9 @@ type Column struct {
 	// DatabaseType is the type name the database reports, upper case (e.g. "INT4").
 	DatabaseType string
 	Kind         TypeKind
+	// NotNull is set when the schema guarantees the column is never NULL; result
+	// column metadata never sets it, schema introspection may.
+	NotNull bool
 }
 
 // Rows is a cursor over the result of one statement.

@@ -114,7 +114,7 @@ var valueTests = map[source.Dialect]struct {
 		},
 		cols: slices.Concat(commonValues, []valueCase{
 			{"n", source.TypeDecimal, "-12.50"},
-			// source.MySQL's result metadata cannot tell BOOLEAN from TINYINT; see
+			// MySQL's result metadata cannot tell BOOLEAN from TINYINT; see
 			// TestMySQLBooleanHint.
 			{"b", source.TypeInteger, int64(1)},
 			// TIMESTAMP is shown in the session's zone, without one.
@@ -130,8 +130,9 @@ var valueTests = map[source.Dialect]struct {
 			`INSERT INTO vals (id) VALUES (2)`,
 		},
 		cols: slices.Concat(commonValues, []valueCase{
-			// NUMERIC affinity stores '-12.50' as the REAL -12.5 (source.SQLite,
-			// "Datatypes In source.SQLite" §3): the scale is gone before we read it.
+			// NUMERIC affinity stores '-12.50' as the REAL -12.5 (SQLite,
+			// "Datatypes In SQLite" §3, from memory; this test shows it): the
+			// scale is gone before we read it.
 			{"n", source.TypeDecimal, "-12.5"},
 			{"b", source.TypeBoolean, true},
 			{"tstz", source.TypeTimestampTZ, utc(2024, 3, 1, 11, 45, 30, 0)}}),
@@ -139,7 +140,7 @@ var valueTests = map[source.Dialect]struct {
 }
 
 // TestValues checks the kind and Go value of each type on each dialect, read
-// both without bind parameters and with one (source.MySQL then uses its binary
+// both without bind parameters and with one (MySQL then uses its binary
 // protocol, whose values differ from the text protocol's).
 func TestValues(t *testing.T) {
 	sourcetest.ForEach(t, func(t *testing.T, db *sourcetest.DB) {
@@ -200,7 +201,7 @@ func sameValue(got, want any) bool {
 }
 
 // TestTimestampZones checks that zone-less timestamps come back in UTC, and
-// that source.SQLite's zoned ones keep the offset their text has.
+// that SQLite's zoned ones keep the offset their text has.
 func TestTimestampZones(t *testing.T) {
 	sourcetest.ForEach(t, func(t *testing.T, db *sourcetest.DB) {
 		db.Exec(t, valueTests[db.Dialect].setup...)
@@ -219,7 +220,7 @@ func TestTimestampZones(t *testing.T) {
 	})
 }
 
-// TestMySQLBooleanHint checks that a source.Kinds argument turns source.MySQL's TINYINT(1)
+// TestMySQLBooleanHint checks that a Kinds argument turns MySQL's TINYINT(1)
 // and BIT(1) into booleans, and that hinted columns are normalised to the hint.
 func TestMySQLBooleanHint(t *testing.T) {
 	db := sourcetest.New(t, source.MySQL)
@@ -242,7 +243,7 @@ func TestMySQLBooleanHint(t *testing.T) {
 	}
 }
 
-// TestSQLiteExpressionKinds checks that source.SQLite expression columns, which have no
+// TestSQLiteExpressionKinds checks that SQLite expression columns, which have no
 // declared type, take the kind of their first value, and that a hint overrides it.
 func TestSQLiteExpressionKinds(t *testing.T) {
 	db := sourcetest.New(t, source.SQLite)

@@ -58,12 +58,8 @@ func openSQLite(dsn string, o options) (Source, error) {
 	if err != nil {
 		return nil, err
 	}
-	maxConns := o.maxConns
-	if maxConns == 0 {
-		maxConns = DefaultMaxConns
-	}
-	db.SetMaxOpenConns(maxConns)
-	db.SetMaxIdleConns(maxConns)
+	db.SetMaxOpenConns(o.poolSize())
+	db.SetMaxIdleConns(o.poolSize())
 	return &sqliteSource{db: db}, nil
 }
 

@@ -58,12 +58,12 @@ func fromText(k TypeKind, s string) (any, error) {
 
 // isZeroDate reports MySQL's "zero" date, which it lets NOT NULL columns hold
 // in place of a missing value, and which matches IS NULL in such columns
-// (MySQL reference manual, "Comparison Functions and Operators", IS NULL); it
-// is read as NULL.
+// (MySQL reference manual, "Comparison Functions and Operators", IS NULL;
+// from memory); it is read as NULL.
 func isZeroDate(s string) bool { return strings.HasPrefix(s, "0000-00-00") }
 
 // isDecimal reports whether s is an xsd:decimal numeral (XSD 1.1 Part 2
-// §3.3.3): an optional sign, then digits with an optional fraction, or a
+// §3.3.3, from memory): an optional sign, then digits with an optional fraction, or a
 // fraction alone.
 func isDecimal(s string) bool {
 	if s != "" && (s[0] == '+' || s[0] == '-') {
@@ -83,8 +83,13 @@ func allDigits(s string) bool {
 }
 
 // isTimeOfDay reports whether s has the form HH:MM:SS[.fraction] with hours
-// 00 to 23 and minutes and seconds 00 to 59.
+// 00 to 23 and minutes and seconds 00 to 59, or is 24:00:00, which PostgreSQL
+// allows and XSD 1.0 reads as the end of the day (XSD 1.0 Part 2 §3.2.8, from
+// memory).
 func isTimeOfDay(s string) bool {
+	if s == "24:00:00" {
+		return true
+	}
 	hms, frac, hasFrac := strings.Cut(s, ".")
 	if len(hms) != 8 || hms[2] != ':' || hms[5] != ':' || (hasFrac && (frac == "" || !allDigits(frac))) {
 		return false

@@ -22,6 +22,8 @@ type Item interface{ item() }
 // Var is a SPARQL variable, named without its '?' or '$'. Variables that stand for
 // blank nodes of the query (§18.2.2.3: they act as variables that are not
 // projected) have names that start with "_:", which no query variable can have.
+// Translate gives the same kind of name to the other variables it introduces
+// (the middle of a path sequence, aggregate results); none is ever projected.
 type Var string
 
 // Const is an RDF term in a pattern or an expression.
@@ -38,7 +40,8 @@ type Triple struct {
 	S, P, O Item
 }
 
-// BGP is a basic graph pattern.
+// BGP is a basic graph pattern. With no patterns it is the empty pattern of
+// §18.2.2.6, whose one solution binds nothing.
 type BGP struct {
 	Patterns []Triple
 }

@@ -7,8 +7,9 @@ type Expr interface{ expr() }
 // symbols "||", "&&", "=", "!=", "<", ">", "<=", ">=", "+", "-", "*", "/", "!",
 // "u-" and "u+" (unary minus and plus), "IN" and "NOT IN" (first argument is the
 // tested value), the upper-case name of a built-in function as the grammar spells
-// it ("STR", "REGEX", "COALESCE", ...), or, when IRI is set, a cast or extension
-// function named by that IRI (Op is then empty).
+// it ("STR", "REGEX", "COALESCE", "SAMETERM", "ISBLANK", ...; Translate writes the
+// synonyms URI and ISURI as "IRI" and "ISIRI"), or, when IRI is set, a cast or
+// extension function named by that IRI (Op is then empty).
 type Call struct {
 	Op   string
 	IRI  string

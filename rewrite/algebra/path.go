@@ -27,7 +27,8 @@ type PathOneOrMore struct{ Path Path }
 type PathZeroOrOne struct{ Path Path }
 
 // PathNegated is !(iri1 | ... | ^iriN): Forward lists the excluded IRIs, Inverse
-// the excluded inverse IRIs.
+// the excluded inverse IRIs. It stands for §18.2.2.3's NPS(Forward) when Inverse
+// is empty, inv(NPS(Inverse)) when Forward is empty, and their alt otherwise.
 type PathNegated struct {
 	Forward []rdf.IRI
 	Inverse []rdf.IRI

@@ -68,7 +68,7 @@ type parser struct {
 	depth int
 }
 
-// peek returns the token i places ahead (0: the next one) without consuming it.
+// peekAt returns the token i places ahead (0: the next one) without consuming it.
 func (p *parser) peekAt(i int) token {
 	for len(p.ahead) <= i {
 		p.ahead = append(p.ahead, p.lex.next())
@@ -160,7 +160,7 @@ func (p *parser) expectWord(kw string) token {
 	return p.next()
 }
 
-// closeGroup consumes the '}' that closes the group opened at open.
+// closeBrace consumes the '}' that closes the group opened at open.
 func (p *parser) closeBrace(open Pos, what string) Pos {
 	if !p.isPunct("}") {
 		t := p.peek()
@@ -932,9 +932,10 @@ func (p *parser) startsVerb(paths bool) bool {
 }
 
 // parsePropertyListNotEmpty parses verbs and object lists. With paths, every
-// verb may be a path and every object may hold paths; rule [83] limits the verbs
-// after the first ';' to ObjectList, which SPARQL 1.1 implementations commonly
-// treat as ObjectListPath, as this parser does.
+// verb may be a path and every object may hold paths. Rule [83] gives the verbs
+// after the first ';' an ObjectList, whose nested blank node property lists may
+// not use paths; this parser reads ObjectListPath there too, accepting a little
+// more than the rule does.
 //
 //	[77] PropertyListNotEmpty ::= Verb ObjectList ( ';' ( Verb ObjectList )? )*
 //	[83] PropertyListPathNotEmpty ::= ( VerbPath | VerbSimple ) ObjectListPath ( ';' ( ( VerbPath | VerbSimple ) ObjectList )? )*

@@ -146,3 +146,22 @@ SELECT ?t WHERE { ?t a wf:Turbine ; wf:rating -1.5e0 , "x"@en , <site/1> , 'y'^^
 		t.Errorf("position of the second object is %d (%q)", pos, src[pos:])
 	}
 }
+
+// TestHostileInput checks that deeply nested or degenerate text gives an error
+// rather than exhausting the stack (our limit, common practice for parsers).
+func TestHostileInput(t *testing.T) {
+	tests := []struct{ src, msg string }{
+		{"SELECT * { FILTER(" + strings.Repeat("(", 100000) + "1" + strings.Repeat(")", 100000) + ") }", "nests more than"},
+		{"SELECT * { " + strings.Repeat("{", 100000) + strings.Repeat("}", 100000) + " }", "nests more than"},
+		{"SELECT * { ?s ?p " + strings.Repeat("(", 100000) + " }", "nests more than"},
+		{"SELECT * { ?s " + strings.Repeat("(", 100000) + "<p>" + " ?o }", "nests more than"},
+		{"SELECT * { ?s ?p " + strings.Repeat("[ <p> ", 100000) + " }", "nests more than"},
+		{"SELECT * { ?s ?p ?o FILTER(?o " + strings.Repeat("< <a", 100000) + ") }", "expected"},
+	}
+	for _, tc := range tests {
+		_, err := sparql.Parse(tc.src)
+		if err == nil || !strings.Contains(err.Error(), tc.msg) {
+			t.Errorf("Parse(%.40q...) = %v, want an error containing %q", tc.src, err, tc.msg)
+		}
+	}
+}

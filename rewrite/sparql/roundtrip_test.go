@@ -1,6 +1,7 @@
 package sparql_test
 
 import (
+	"net/url"
 	"os"
 	"path/filepath"
 	"reflect"
@@ -9,6 +10,27 @@ import (
 
 	"veneer/rewrite/sparql"
 )
+
+// w3cDir is where the W3C test suites are: ../../../shared/w3c from this
+// package, or $VENEER_W3C.
+func w3cDir(t *testing.T) string {
+	dir := os.Getenv("VENEER_W3C")
+	if dir == "" {
+		dir = filepath.Join("..", "..", "..", "shared", "w3c")
+	}
+	if _, err := os.Stat(filepath.Join(dir, "rdf-tests", "sparql")); err != nil {
+		if os.Getenv("CI") == "true" {
+			t.Fatalf("W3C suites not found at %s: %v", dir, err)
+		}
+		t.Skipf("W3C suites not found at %s (set VENEER_W3C): %v", dir, err)
+	}
+	return dir
+}
+
+// fileIRI is the IRI a query file is retrieved from, its base IRI.
+func fileIRI(path string) string {
+	return (&url.URL{Scheme: "file", Path: filepath.ToSlash(path)}).String()
+}
 
 // stripPositions zeroes every position and the source text in a tree, so that
 // trees parsed from different texts can be compared.

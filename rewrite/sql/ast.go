@@ -48,6 +48,9 @@ type From interface{ from() }
 type Table struct {
 	Name  []catalog.Ident
 	Alias string
+	// Key identifies the logical table for the planner's rules (two FROM items
+	// with one Key read the same rows); the printer ignores it.
+	Key string
 }
 
 // Derived is a sub-query in FROM (an R2RML view, or a nested plan).
@@ -69,7 +72,8 @@ func (*Table) from()    {}
 func (*Derived) from()  {}
 func (*LeftJoin) from() {}
 
-// Order is one ORDER BY item.
+// Order is one ORDER BY item. NULLs sort first ascending and last descending in
+// every dialect, as SPARQL puts unbound first (§15.1).
 type Order struct {
 	Expr Expr
 	Desc bool
@@ -157,3 +161,38 @@ type Cast struct {
 }
 
 func (Cast) expr() {}
+
+// Collate compares X by code point, whatever its column's collation (for ORDER BY
+// and comparisons of strings).
+type Collate struct{ X Expr }
+
+func (Collate) expr() {}
+
+// MapColumns rebuilds e with every column reference replaced by f's result.
+func MapColumns(e Expr, f func(ColumnRef) ColumnRef) Expr {
+	switch x := e.(type) {
+	case ColumnRef:
+		return f(x)
+	case Binary:
+		x.L, x.R = MapColumns(x.L, f), MapColumns(x.R, f)
+		return x
+	case Not:
+		return Not{X: MapColumns(x.X, f)}
+	case IsNull:
+		x.X = MapColumns(x.X, f)
+		return x
+	case Cast:
+		x.X = MapColumns(x.X, f)
+		return x
+	case Collate:
+		return Collate{X: MapColumns(x.X, f)}
+	case Func:
+		args := make([]Expr, len(x.Args))
+		for i, a := range x.Args {
+			args[i] = MapColumns(a, f)
+		}
+		return Func{Name: x.Name, Args: args}
+	}
+	// Param, Int, Null, and Exists (whose sub-query is closed over its own FROM).
+	return e
+}

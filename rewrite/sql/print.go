@@ -116,8 +116,13 @@ func (p *printer) tail(order []Order, limit, offset *int64) {
 				p.w(", ")
 			}
 			p.expr(o.Expr)
-			if o.Desc {
+			switch {
+			case o.Desc && p.dialect == source.Postgres:
+				p.w(" DESC NULLS LAST")
+			case o.Desc:
 				p.w(" DESC")
+			case p.dialect == source.Postgres:
+				p.w(" NULLS FIRST")
 			}
 		}
 	}
@@ -206,6 +211,17 @@ func (p *printer) expr(e Expr) {
 		p.w(" ", e.Op, " ")
 		p.expr(e.R)
 		p.w(")")
+	case Collate:
+		switch p.dialect {
+		case source.Postgres:
+			p.expr(e.X)
+			p.w(` COLLATE "C"`)
+		case source.MySQL:
+			p.w("BINARY ")
+			p.expr(e.X)
+		default:
+			p.expr(e.X)
+		}
 	case Cast:
 		p.w("CAST(")
 		p.expr(e.X)

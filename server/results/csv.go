@@ -12,14 +12,17 @@ import (
 // and TSV Formats (text/csv). The format is lossy: a field holds an IRI
 // without angle brackets, a literal's lexical form without its datatype or
 // language tag, a blank node as "_:" and its label, and nothing for an unbound
-// variable. Lines end in CRLF and fields are quoted as RFC 4180 §2 says.
+// variable. Lines end in CRLF and fields are quoted as RFC 4180 §2 says; a
+// line of a single empty field is written `""`, since many readers skip an
+// empty line.
 func NewCSV(w io.Writer) SelectWriter { return newSelectWriter(w, "CSV", csvEncoder{}) }
 
 // NewTSV returns a writer of the TSV format of SPARQL 1.1 Query Results CSV
 // and TSV Formats (text/tab-separated-values). Variables are written with
 // their "?", terms in Turtle syntax (numbers and booleans in their short form
 // where that keeps the lexical form, no prefixed names), nothing for an unbound
-// variable; lines end in LF. Blank nodes may be renamed (see appendBlankLabel).
+// variable; lines end in LF. Blank nodes may be renamed (see the package
+// documentation).
 func NewTSV(w io.Writer) SelectWriter {
 	return newSelectWriter(w, "TSV", tsvEncoder{terms: termSyntax{short: true}})
 }

@@ -48,6 +48,8 @@ func TestNegotiate(t *testing.T) {
 		{"*/*;q=0.1, text/csv", Solutions, CSV, true},
 		{"*/*, application/sparql-results+json;q=0", Solutions, XML, true},
 		{"application/sparql-results+json;q=0, application/sparql-results+xml;q=0, */*", Solutions, CSV, true},
+		// The same range twice: the RFC does not say; the more generous weight counts.
+		{"text/csv;q=0.8, text/csv;q=0.2, text/tab-separated-values;q=0.5", Solutions, CSV, true},
 		// Equal weights: the more specific match, then the server's order.
 		{"text/*, application/sparql-results+xml", Solutions, XML, true},
 		{"text/tab-separated-values, text/csv", Solutions, CSV, true},

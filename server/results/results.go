@@ -15,11 +15,23 @@
 // database went away, the client hung up) simply stops calling the writer: the
 // bytes sent so far are an unfinished document — JSON without its closing
 // brackets, XML without its end tags — and the server aborts the response, so
-// the client cannot take a cut-short answer for a complete one.
+// the client cannot take a cut-short answer for a complete one. CSV, TSV and
+// N-Triples have no closing part, so for them the aborted response is the
+// only sign.
 //
 // After any error a writer is spent: every later call returns the same error.
-// A term the format cannot carry (text that is not UTF-8, a character XML 1.0
-// forbids) is such an error, reported before any byte of its row is sent.
+// A term the format cannot carry is such an error, reported before any byte
+// of its row is sent: text that is not UTF-8 (in every format), a character
+// XML 1.0 forbids (XML), and in the Turtle-syntax formats (TSV, Turtle,
+// N-Triples) an IRI with a character IRIREF leaves out or a language tag that
+// is not a LANGTAG.
+//
+// Blank node labels are local to a document (RDF 1.1 Concepts §3.4), and the
+// Turtle-syntax formats allow only some of them (BLANK_NODE_LABEL), so those
+// writers rename blank nodes, one to one: a label of ASCII letters and digits
+// (and '-' after the first byte) is kept, any other byte becomes '_' and two
+// hex digits ("wo_1" becomes "wo_5f1"), and the empty label becomes "_".
+// JSON, XML, CSV and JSON-LD keep labels as they are.
 package results
 
 import (
@@ -58,7 +70,7 @@ type GraphWriter interface {
 // answers; 512 rows bounds how long a client waits for a slow answer with
 // short rows. Neither value comes from a specification.
 const (
-	flushBytes = 32 << 25
+	flushBytes = 32 << 10
 	flushRows  = 512
 )
 
@@ -190,6 +202,11 @@ type solutionEncoder interface {
 	row(dst []byte, i int, vars []string, sol []rdf.Term) ([]byte, error)
 	tail(dst []byte) []byte
 }
+
+var (
+	_ SelectWriter = (*selectWriter)(nil)
+	_ GraphWriter  = (*graphWriter)(nil)
+)
 
 // selectWriter is the SelectWriter of every format.
 type selectWriter struct {

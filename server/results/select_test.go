@@ -309,8 +309,11 @@ func TestBlankLabels(t *testing.T) {
 	if len(doc.Statements) != len(labels) {
 		t.Errorf("%d statements read, want %d", len(doc.Statements), len(labels))
 	}
-	if got := string(appendBlankLabel(nil, "wo42")); got != "_:wo42" {
-		t.Errorf("plain label renamed to %s", got)
+	// The examples of the package documentation.
+	for label, want := range map[string]string{"wo42": "_:wo42", "wo_1": "_:wo_5f1", "": "_:_"} {
+		if got := string(appendBlankLabel(nil, label)); got != want {
+			t.Errorf("label %q written %s, want %s", label, got, want)
+		}
 	}
 }
 

@@ -51,9 +51,9 @@ var selectFormats = []struct {
 }
 
 // TestStreaming checks that a large answer reaches the io.Writer while it is
-// being written, not at End: the head is sent and flushed by Begin, every
-// Write is about flushBytes at most, Flush follows at least every flushRows
-// rows, and End has little left to send.
+// being written, not at End, as the package documentation promises: the head
+// is sent and flushed by Begin, then at least every 32 KiB (every Write is at
+// most that and one row) and every 512 rows, so End has little left to send.
 func TestStreaming(t *testing.T) {
 	const rows = 100_000
 	for _, f := range selectFormats {
@@ -78,20 +78,44 @@ func TestStreaming(t *testing.T) {
 			t.Fatal(err)
 		}
 		total := rec.Len()
-		if held := total - beforeEnd; held > flushBytes+1024 {
+		if held := total - beforeEnd; held > 32<<10+1024 {
 			t.Errorf("%s: %d of %d bytes held back until End", f.name, held, total)
 		}
 		for i, n := range rec.writes {
-			if n > flushBytes+1024 {
+			if n > 32<<10+1024 {
 				t.Errorf("%s: write %d has %d bytes, more than the flush threshold and a row", f.name, i, n)
 				break
 			}
 		}
-		if min := rows / flushRows; len(rec.flushes) < min {
+		if min := rows / 512; len(rec.flushes) < min {
 			t.Errorf("%s: %d flushes for %d rows, want at least %d", f.name, len(rec.flushes), rows, min)
 		}
 		if last := rec.flushes[len(rec.flushes)-1]; last != total {
 			t.Errorf("%s: last flush at %d bytes of %d", f.name, last, total)
+		}
+	}
+}
+
+// TestSlowStream checks that short rows, which take long to fill 32 KiB when
+// the database is slow, are still flushed every 512 rows.
+func TestSlowStream(t *testing.T) {
+	for _, f := range selectFormats {
+		var rec recorder
+		sw := f.new(&rec)
+		if err := sw.Begin([]string{"n"}); err != nil {
+			t.Fatal(err)
+		}
+		for range 2 * 512 {
+			if err := sw.Row([]rdf.Term{nil}); err != nil {
+				t.Fatal(err)
+			}
+		}
+		flushes, sent := len(rec.flushes), rec.Len()
+		if err := sw.End(); err != nil {
+			t.Fatal(err)
+		}
+		if tail := rec.Len() - sent; flushes != 3 || tail > 64 {
+			t.Errorf("%s: after Begin and 1024 short rows, %d flushes and %d bytes left for End; want 3 flushes and only the tail left", f.name, flushes, tail)
 		}
 	}
 }

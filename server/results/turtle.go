@@ -15,8 +15,8 @@ import (
 // booleans take their short form where that keeps the lexical form. The
 // writer declares prefixes and writes an IRI as a prefixed name when the part
 // after the longest matching prefix needs no escapes in Turtle. A prefix
-// declared twice keeps its last IRI. Blank nodes may be renamed (see
-// appendBlankLabel).
+// declared twice keeps its last IRI. Blank nodes may be renamed
+// (see the package documentation).
 func NewTurtle(w io.Writer, prefixes []rdf.Prefix) GraphWriter {
 	var ps []rdf.Prefix
 	for i, p := range prefixes {
@@ -28,7 +28,8 @@ func NewTurtle(w io.Writer, prefixes []rdf.Prefix) GraphWriter {
 }
 
 // NewNTriples returns a writer of RDF 1.1 N-Triples (application/n-triples):
-// one triple per line. Blank nodes may be renamed (see appendBlankLabel).
+// one triple per line. Blank nodes may be renamed (see the package
+// documentation).
 func NewNTriples(w io.Writer) GraphWriter {
 	return newGraphWriter(w, "N-Triples", ntriplesEncoder{})
 }

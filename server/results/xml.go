@@ -154,7 +154,7 @@ func appendXMLEscaped(dst []byte, s string, attr bool) ([]byte, error) {
 }
 
 // appendXMLBoolean appends the XML results document of an ASK query: an empty
-// head and a boolean element (XML Format §2.4).
+// head and a boolean element (XML Format §2.3.2).
 func appendXMLBoolean(dst []byte, v bool) []byte {
 	dst = append(dst, xmlProlog...)
 	dst = append(dst, "<head/>\n<boolean>"...)

@@ -1,4 +1,4 @@
-package sparql_test
+package algebra_test
 
 import (
 	"errors"

@@ -1,0 +1,352 @@
+package rewrite
+
+import (
+	"strings"
+
+	"veneer/catalog"
+	"veneer/catalog/rdf"
+	"veneer/catalog/source"
+	"veneer/rewrite/algebra"
+	"veneer/rewrite/sql"
+)
+
+// candidate is a producer with the graph map it is read through (nil in the
+// default graph).
+type candidate struct {
+	p     producer
+	graph *catalog.TermMap
+}
+
+// candidates lists what can produce triples in the graph context: the default
+// graph (graph nil), or the named graphs matched by graph (a Var or a Const).
+func (pl *Planner) candidates(graph algebra.Item) []candidate {
+	var out []candidate
+	for _, p := range pl.producers {
+		if graph == nil {
+			if p.inDefaultGraph() {
+				out = append(out, candidate{p: p})
+			}
+			continue
+		}
+		for _, g := range p.namedGraphs() {
+			g := g
+			out = append(out, candidate{p: p, graph: &g})
+		}
+	}
+	return out
+}
+
+// bgp unfolds a basic graph pattern into the union of the producer combinations
+// that can match it, dropping combinations that provably cannot (constants no map
+// yields, shared variables whose maps never give equal terms).
+func (q *query) bgp(patterns []algebra.Triple, graph algebra.Item) (*rel, error) {
+	r := &rel{}
+	for _, t := range patterns {
+		for _, it := range []algebra.Item{t.S, t.P, t.O} {
+			if v, ok := it.(algebra.Var); ok {
+				r.addVar(v)
+			}
+		}
+	}
+	if v, ok := graph.(algebra.Var); ok && len(patterns) > 0 {
+		r.addVar(v)
+	}
+	cands := q.pl.candidates(graph)
+	var walk func(i int, b *branch) error
+	walk = func(i int, b *branch) error {
+		if i == len(patterns) {
+			if len(r.branches) >= q.pl.limits.MaxUnions {
+				return &TooComplex{What: "the triple patterns unfold into more than " + itoa(q.pl.limits.MaxUnions) + " union branches"}
+			}
+			r.branches = append(r.branches, b)
+			return nil
+		}
+		for _, c := range cands {
+			nb := b.clone()
+			if q.addPattern(nb, patterns[i], c, graph) {
+				if err := walk(i+1, nb); err != nil {
+					return err
+				}
+			}
+		}
+		return nil
+	}
+	if err := walk(0, &branch{vars: map[algebra.Var]binding{}}); err != nil {
+		return nil, err
+	}
+	r.dedup = !q.unique(r)
+	for _, b := range r.branches {
+		q.eliminateSelfJoins(b)
+	}
+	return r, nil
+}
+
+// base returns the occurrence of term map m over the rows of FROM alias.
+func (q *query) base(m catalog.TermMap, alias string, t catalog.LogicalTable) occurrence {
+	o := occurrence{m: m}
+	for _, c := range m.Columns() {
+		col, err := q.pl.cols.Lookup(t, c)
+		if err != nil {
+			// ProbeColumns checked every column the catalog names.
+			panic("rewrite: unchecked column: " + err.Error())
+		}
+		o.exprs = append(o.exprs, sql.ColumnRef{Table: alias, Column: catalog.Ident{Name: col.Name, Quoted: true}})
+		o.cols = append(o.cols, col)
+	}
+	return o
+}
+
+func (q *query) fromItem(t catalog.LogicalTable, alias string) sql.From {
+	if t.Query != "" {
+		return &sql.Derived{Query: t.Query, Alias: alias}
+	}
+	name, _ := catalog.ParseName(t.TableName) // checked when the columns were probed
+	return &sql.Table{Name: name, Alias: alias, Key: t.Key()}
+}
+
+// addPattern extends the branch with candidate c for triple pattern t; false means
+// c cannot match the pattern given what the branch already binds.
+func (q *query) addPattern(b *branch, t algebra.Triple, c candidate, graph algebra.Item) bool {
+	pr := c.p
+	child := q.alias("t")
+	b.from = append(b.from, q.fromItem(pr.tm.Table, child))
+	objAlias, objTable := child, pr.tm.Table
+	if pr.parent != nil && len(pr.joins) > 0 {
+		objAlias, objTable = q.alias("t"), pr.parent.Table
+		b.from = append(b.from, q.fromItem(pr.parent.Table, objAlias))
+		for _, j := range pr.joins {
+			l, lc := q.base(catalog.TermMap{Kind: catalog.Column, Column: j.Child}, child, pr.tm.Table).col(j.Child)
+			r, rc := q.base(catalog.TermMap{Kind: catalog.Column, Column: j.Parent}, objAlias, pr.parent.Table).col(j.Parent)
+			b.where = append(b.where, q.eq(l, lc, r, rc))
+		}
+	}
+	positions := []struct {
+		it  algebra.Item
+		occ occurrence
+	}{
+		{t.S, q.base(pr.tm.Subject, child, pr.tm.Table)},
+		{t.P, q.base(pr.predicate, child, pr.tm.Table)},
+		{t.O, q.base(pr.object, objAlias, objTable)},
+	}
+	if c.graph != nil {
+		positions = append(positions, struct {
+			it  algebra.Item
+			occ occurrence
+		}{graph, q.base(*c.graph, child, pr.tm.Table)})
+	}
+	for _, pos := range positions {
+		if a := pos.occ.active(); a != nil {
+			// A term map with a NULL column yields no term, so the row no triple.
+			b.where = append(b.where, a)
+		}
+		switch it := pos.it.(type) {
+		case algebra.Const:
+			conds, ok := q.constConds(pos.occ, it.Term)
+			if !ok {
+				return false
+			}
+			b.where = append(b.where, conds...)
+		case algebra.Var:
+			bd, bound := b.vars[it]
+			if !bound {
+				b.vars[it] = binding{alts: []occurrence{pos.occ}}
+				continue
+			}
+			conds, exact, ok := q.unify(bd.alts[0], pos.occ)
+			if !ok {
+				return false
+			}
+			b.where = append(b.where, conds...)
+			if !exact {
+				b.checks = append(b.checks, varCheck{it, pos.occ})
+			}
+		}
+	}
+	return true
+}
+
+// eq compares two columns for equality, exactly (by code point) for strings.
+func (q *query) eq(l sql.Expr, lc source.Column, r sql.Expr, rc source.Column) sql.Expr {
+	return sql.Binary{Op: "=", L: l, R: r, Exact: stringKind(lc.Kind) || stringKind(rc.Kind)}
+}
+
+// stringKind reports whether values of the kind compare as strings, where an exact
+// (code point) comparison must be asked for.
+func stringKind(k source.TypeKind) bool { return k == source.TypeString || k == source.TypeOther }
+
+// literalType is the datatype and language of the literals an occurrence yields.
+func literalType(o occurrence) (rdf.IRI, string) {
+	switch {
+	case o.m.Language != "":
+		return rdf.RDFLangString, strings.ToLower(o.m.Language)
+	case o.m.Datatype != "":
+		return o.m.Datatype, ""
+	case o.m.Kind == catalog.Column:
+		if dt := catalog.NaturalDatatype(o.cols[0].Kind); dt != "" {
+			return dt, ""
+		}
+	}
+	return rdf.XSDString, ""
+}
+
+// constConds are the SQL conditions under which the occurrence yields term c; false
+// means it never does.
+func (q *query) constConds(o occurrence, c rdf.Term) ([]sql.Expr, bool) {
+	m := o.m
+	if m.Kind == catalog.Constant {
+		if !rdf.SameTerm(m.Constant, c) {
+			return nil, false
+		}
+		if a := o.active(); a != nil {
+			return []sql.Expr{a}, true
+		}
+		return nil, true
+	}
+	if c.Kind() != m.TermType {
+		return nil, false
+	}
+	var lexical string
+	switch c := c.(type) {
+	case rdf.IRI:
+		lexical = string(c)
+	case rdf.Literal:
+		dt, lang := literalType(o)
+		if c.Datatype != dt || !strings.EqualFold(c.Lang, lang) {
+			return nil, false
+		}
+		lexical = c.Lexical
+	default:
+		// Blank nodes of a query are variables; a blank node constant never occurs.
+		return nil, false
+	}
+	switch m.Kind {
+	case catalog.Column:
+		return q.valueConds(o, map[string]string{m.Column: lexical})
+	case catalog.TemplateMap:
+		values, ok := m.Template.Match(lexical, m.TermType == rdf.KindIRI)
+		if !ok {
+			return nil, false
+		}
+		return q.valueConds(o, values)
+	}
+	return nil, false
+}
+
+// valueConds equate columns with the values whose lexical forms are given; a value
+// that the column's type cannot hold means no match.
+func (q *query) valueConds(o occurrence, lexicals map[string]string) ([]sql.Expr, bool) {
+	var out []sql.Expr
+	for _, name := range o.m.Columns() {
+		e, col := o.col(name)
+		v, ok := catalog.ParseLexical(lexicals[name], col.Kind)
+		if !ok {
+			return nil, false
+		}
+		out = append(out, sql.Binary{Op: "=", Exact: stringKind(col.Kind), L: e, R: sql.Param{Value: q.pl.param(v, col)}})
+	}
+	return out, true
+}
+
+// param adapts a normalised value to what the column's driver compares it with.
+// SQLite keeps dates and timestamps as text, so they are bound in its text form.
+func (pl *Planner) param(v any, col source.Column) any {
+	if pl.dialect == source.SQLite {
+		switch col.Kind {
+		case source.TypeDate:
+			return catalog.Lexical(v, col.Kind)
+		case source.TypeTimestamp, source.TypeTimestampTZ:
+			return strings.Replace(catalog.Lexical(v, col.Kind), "T", " ", 1)
+		}
+	}
+	return v
+}
+
+// unify returns the SQL conditions under which occurrences a and b yield the same
+// term. exact is false when SQL cannot decide it fully and the row must be checked
+// in-process; ok is false when they never yield the same term.
+func (q *query) unify(a, b occurrence) (conds []sql.Expr, exact, ok bool) {
+	if a.m.TermType != b.m.TermType {
+		return nil, true, false
+	}
+	if a.m.Kind == catalog.Constant {
+		a, b = b, a
+	}
+	if b.m.Kind == catalog.Constant {
+		c, ok := q.constConds(a, b.m.Constant)
+		if ok && b.marker != nil {
+			c = append(c, b.active())
+		}
+		return c, true, ok
+	}
+	if a.m.TermType == rdf.KindLiteral {
+		da, la := literalType(a)
+		db, lb := literalType(b)
+		if da != db || la != lb {
+			return nil, true, false
+		}
+	}
+	switch {
+	case a.m.Kind == catalog.Column && b.m.Kind == catalog.Column:
+		return q.equateColumns(a, a.m.Column, b, b.m.Column)
+	case a.m.Kind == catalog.TemplateMap && b.m.Kind == catalog.TemplateMap:
+		if !catalog.SameShape(a.m.Template, b.m.Template) {
+			if !prefixCompatible(a.m.Template, b.m.Template) {
+				return nil, true, false
+			}
+			return nil, false, true
+		}
+		exact = true
+		for i, p := range a.m.Template.Parts {
+			if p.Column == "" {
+				continue
+			}
+			c, ex, _ := q.equateColumns(a, p.Column, b, b.m.Template.Parts[i].Column)
+			conds = append(conds, c...)
+			exact = exact && ex
+		}
+		return conds, exact, true
+	}
+	return nil, false, true
+}
+
+// equateColumns compares two columns whose lexical forms must be equal. Columns of
+// one type family compare directly; integers and strings compare as text; other
+// mixes are left to the in-process check.
+func (q *query) equateColumns(a occurrence, ca string, b occurrence, cb string) ([]sql.Expr, bool, bool) {
+	l, lc := a.col(ca)
+	r, rc := b.col(cb)
+	if lc.Kind != rc.Kind {
+		if !textual(lc.Kind) || !textual(rc.Kind) {
+			return nil, false, true
+		}
+		l, r = q.asText(l, lc.Kind), q.asText(r, rc.Kind)
+	}
+	return []sql.Expr{q.eq(l, lc, r, rc)}, true, true
+}
+
+func textual(k source.TypeKind) bool {
+	return k == source.TypeInteger || k == source.TypeString || k == source.TypeOther
+}
+
+func (q *query) asText(e sql.Expr, k source.TypeKind) sql.Expr {
+	if k != source.TypeInteger {
+		return e
+	}
+	if q.pl.dialect == source.MySQL {
+		return sql.Cast{X: e, Type: "CHAR"}
+	}
+	return sql.Cast{X: e, Type: "TEXT"}
+}
+
+// prefixCompatible reports whether two templates of different shapes might still
+// produce the same string: their leading texts must agree as far as both go.
+func prefixCompatible(a, b catalog.Template) bool {
+	lead := func(t catalog.Template) string {
+		if len(t.Parts) > 0 && t.Parts[0].Column == "" {
+			return t.Parts[0].Text
+		}
+		return ""
+	}
+	la, lb := lead(a), lead(b)
+	return strings.HasPrefix(la, lb) || strings.HasPrefix(lb, la)
+}

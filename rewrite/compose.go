@@ -1,0 +1,413 @@
+package rewrite
+
+import (
+	"veneer/catalog"
+	"veneer/catalog/source"
+	"veneer/rewrite/algebra"
+	"veneer/rewrite/sql"
+)
+
+// relation expresses n in SQL when it can: it returns the relation and the
+// solution modifiers its statement carries, nil when some part of n must run
+// in-process, or an error for a query that cannot be planned at all.
+func (q *query) relation(n algebra.Node, graph algebra.Item) (*rel, modifiers, error) {
+	none := modifiers{limit: -1}
+	switch n := n.(type) {
+	case algebra.BGP:
+		r, err := q.bgp(n.Patterns, graph)
+		if err != nil {
+			return nil, none, err
+		}
+		if len(n.Patterns) == 0 {
+			// The empty pattern's one empty solution, or for GRAPH ?g {}, the
+			// names of the graphs: the latter is left in-process for now.
+			if graph != nil {
+				return nil, none, nil
+			}
+			r = &rel{branches: []*branch{{vars: map[algebra.Var]binding{}}}}
+		}
+		return r, none, nil
+	case algebra.Graph:
+		return q.relation(n.Input, n.Name)
+	case algebra.Filter:
+		r, mod, err := q.relation(n.Input, graph)
+		if r == nil || err != nil || !plain(mod) {
+			return nil, none, err
+		}
+		if residual := q.pushFilters(r, n.Exprs); len(residual) > 0 {
+			return nil, none, nil
+		}
+		return r, none, nil
+	case algebra.Join:
+		l, r, err := q.relations(n.Left, n.Right, graph)
+		if l == nil || err != nil {
+			return nil, none, err
+		}
+		j, err := q.join(l, r)
+		if j == nil || err != nil {
+			return nil, none, err
+		}
+		return j, none, nil
+	case algebra.LeftJoin:
+		l, r, err := q.relations(n.Left, n.Right, graph)
+		if l == nil || err != nil {
+			return nil, none, err
+		}
+		j := q.leftJoin(l, r, n.Expr)
+		return j, none, nil
+	case algebra.Union:
+		l, r, err := q.relations(n.Left, n.Right, graph)
+		if l == nil || err != nil {
+			return nil, none, err
+		}
+		u := q.union(l, r)
+		return u, none, nil
+	case algebra.Extend:
+		r, mod, err := q.relation(n.Input, graph)
+		if r == nil || err != nil || !plain(mod) {
+			return nil, none, err
+		}
+		if !q.extend(r, n.Var, n.Expr) {
+			return nil, none, nil
+		}
+		return r, none, nil
+	case algebra.Project:
+		r, mod, err := q.relation(n.Input, graph)
+		if r == nil || err != nil {
+			return nil, none, err
+		}
+		if mod.vars != nil || mod.distinct || mod.limit >= 0 || mod.offset > 0 {
+			if r, err = q.nest(r, mod); r == nil || err != nil {
+				return nil, none, err
+			}
+			mod = none
+		}
+		mod.vars = n.Vars
+		return r, mod, nil
+	case algebra.Distinct, algebra.Reduced:
+		r, mod, err := q.relation(n.Children()[0], graph)
+		if r == nil || err != nil {
+			return nil, none, err
+		}
+		if mod.limit >= 0 || mod.offset > 0 {
+			if r, err = q.nest(r, mod); r == nil || err != nil {
+				return nil, none, err
+			}
+			mod = none
+		}
+		mod.distinct = true
+		return r, mod, nil
+	case algebra.OrderBy:
+		r, mod, err := q.relation(n.Input, graph)
+		if r == nil || err != nil || !plain(mod) {
+			return nil, none, err
+		}
+		order, ok := q.orderBy(r, n.Conds)
+		if !ok {
+			return nil, none, nil
+		}
+		mod.order = order
+		for _, c := range n.Conds {
+			mod.orderVars = append(mod.orderVars, c.Expr.(algebra.Var))
+		}
+		return r, mod, nil
+	case algebra.Slice:
+		r, mod, err := q.relation(n.Input, graph)
+		if r == nil || err != nil {
+			return nil, none, err
+		}
+		if mod.limit >= 0 || mod.offset > 0 {
+			if r, err = q.nest(r, mod); r == nil || err != nil {
+				return nil, none, err
+			}
+			mod = none
+		}
+		mod.offset, mod.limit = n.Offset, n.Limit
+		return r, mod, nil
+	}
+	return nil, none, nil
+}
+
+// plain reports whether no modifier applies, so more conditions may be added.
+func plain(m modifiers) bool {
+	return m.vars == nil && !m.distinct && m.order == nil && m.limit < 0 && m.offset == 0
+}
+
+// nest closes a relation with its modifiers into a derived table, so that more
+// can be built on top of it; nil when it cannot be nested.
+func (q *query) nest(r *rel, mod modifiers) (*rel, error) {
+	if plain(mod) {
+		return r, nil
+	}
+	d, ok := q.derived(r, mod)
+	if !ok {
+		return nil, nil
+	}
+	return d, nil
+}
+
+// relations plans both inputs of a binary operator as plain relations, or returns
+// nil when either cannot be.
+func (q *query) relations(a, b algebra.Node, graph algebra.Item) (*rel, *rel, error) {
+	l, lm, err := q.relation(a, graph)
+	if l == nil || err != nil {
+		return nil, nil, err
+	}
+	r, rm, err := q.relation(b, graph)
+	if r == nil || err != nil {
+		return nil, nil, err
+	}
+	if l, err = q.nest(l, lm); l == nil || err != nil {
+		return nil, nil, err
+	}
+	if r, err = q.nest(r, rm); r == nil || err != nil {
+		return nil, nil, err
+	}
+	return l, r, nil
+}
+
+// deduped returns r with repeated solutions removed (as a DISTINCT derived table
+// when its rows may repeat), so it can be combined with multiset operators.
+func (q *query) deduped(r *rel) (*rel, bool) {
+	if !r.dedup {
+		return r, true
+	}
+	return q.derived(r, modifiers{limit: -1})
+}
+
+// join builds the compatible-solution join of two relations: every pair of
+// branches, joined on their shared variables. It returns nil when some shared
+// variable is bound in a way SQL cannot compare.
+func (q *query) join(l, r *rel) (*rel, error) {
+	if len(l.branches) == 1 && len(l.branches[0].from) == 0 && len(l.branches[0].vars) == 0 {
+		return r, nil // the empty pattern joins as identity
+	}
+	if len(r.branches) == 1 && len(r.branches[0].from) == 0 && len(r.branches[0].vars) == 0 {
+		return l, nil
+	}
+	l, ok1 := q.deduped(l)
+	r, ok2 := q.deduped(r)
+	if !ok1 || !ok2 {
+		return nil, nil
+	}
+	out := &rel{}
+	for _, v := range append(append([]algebra.Var(nil), l.vars...), r.vars...) {
+		out.addVar(v)
+	}
+	for _, a := range l.branches {
+		for _, b := range r.branches {
+			if len(out.branches) >= q.pl.limits.MaxUnions {
+				return nil, &TooComplex{What: "the join unfolds into more than " + itoa(q.pl.limits.MaxUnions) + " union branches"}
+			}
+			nb, ok, compatible := q.joinBranches(a, b)
+			if !ok {
+				return nil, nil
+			}
+			if compatible {
+				out.branches = append(out.branches, nb)
+			}
+		}
+	}
+	return out, nil
+}
+
+// joinBranches joins two branches. ok is false when SQL cannot express the join;
+// compatible is false when the branches can never join.
+func (q *query) joinBranches(a, b *branch) (nb *branch, ok, compatible bool) {
+	nb = a.clone()
+	nb.from = append(nb.from, b.from...)
+	nb.where = append(nb.where, b.where...)
+	nb.checks = append(nb.checks, b.checks...)
+	for v, bb := range b.vars {
+		ab, shared := nb.vars[v]
+		if !shared {
+			nb.vars[v] = bb
+			continue
+		}
+		switch {
+		case ab.solid() && bb.solid():
+			conds, exact, ok := q.unify(ab.alts[0], bb.alts[0])
+			if !ok {
+				return nil, true, false
+			}
+			if !exact {
+				return nil, false, false
+			}
+			nb.where = append(nb.where, conds...)
+		case len(ab.alts) == 1 && len(bb.alts) == 1 && groupKey(ab.alts[0]) == groupKey(bb.alts[0]):
+			// Either side may leave v unbound: compatible when either does, or both
+			// agree; the joined row takes whichever side has it.
+			x, y := ab.alts[0], bb.alts[0]
+			conds, exact, ok := q.unify(x, y)
+			if !ok || !exact {
+				return nil, false, false
+			}
+			var options []sql.Expr
+			if ab.nullable {
+				options = append(options, inactive(x))
+			}
+			if bb.nullable {
+				options = append(options, inactive(y))
+			}
+			options = append(options, sql.And(conds...))
+			nb.where = append(nb.where, or(options...))
+			nb.vars[v] = binding{alts: []occurrence{coalesce(x, y)}, nullable: ab.nullable && bb.nullable}
+		default:
+			return nil, false, false
+		}
+	}
+	return nb, true, true
+}
+
+// inactive is the condition under which an occurrence yields no term.
+func inactive(o occurrence) sql.Expr {
+	a := o.active()
+	if a == nil {
+		return sql.Binary{Op: "=", L: sql.Int(0), R: sql.Int(1)}
+	}
+	return sql.Not{X: a}
+}
+
+func or(es ...sql.Expr) sql.Expr {
+	var out sql.Expr
+	for _, e := range es {
+		if e == nil {
+			return nil // one option is always true
+		}
+		if out == nil {
+			out = e
+		} else {
+			out = sql.Binary{Op: "OR", L: out, R: e}
+		}
+	}
+	return out
+}
+
+// coalesce reads two occurrences of one shape as one: each column from whichever
+// side has it.
+func coalesce(x, y occurrence) occurrence {
+	o := x
+	o.exprs = make([]sql.Expr, len(x.exprs))
+	o.cols = make([]source.Column, len(x.cols))
+	for i := range x.exprs {
+		o.cols[i] = x.cols[i]
+		o.cols[i].NotNull = x.cols[i].NotNull || y.cols[i].NotNull
+		o.exprs[i] = sql.Func{Name: "COALESCE", Args: []sql.Expr{x.exprs[i], y.exprs[i]}}
+	}
+	if x.marker != nil && y.marker != nil {
+		o.marker = sql.Func{Name: "COALESCE", Args: []sql.Expr{x.marker, y.marker}}
+	} else {
+		o.marker = nil
+	}
+	return o
+}
+
+// leftJoin builds OPTIONAL: each left branch LEFT JOINs the right relation as one
+// derived table, on the shared variables and the optional's filter. nil when SQL
+// cannot express it.
+func (q *query) leftJoin(l, r *rel, expr algebra.Expr) *rel {
+	l, ok := q.deduped(l)
+	if !ok {
+		return nil
+	}
+	d, ok := q.derived(r, modifiers{limit: -1})
+	if !ok {
+		return nil
+	}
+	db := d.branches[0]
+	dt := db.from[0]
+	out := &rel{}
+	for _, v := range append(append([]algebra.Var(nil), l.vars...), d.vars...) {
+		out.addVar(v)
+	}
+	for _, a := range l.branches {
+		nb := a.clone()
+		var on []sql.Expr
+		for v, rb := range db.vars {
+			ab, shared := a.vars[v]
+			if !shared {
+				nb.vars[v] = binding{alts: rb.alts, nullable: true}
+				continue
+			}
+			if !ab.solid() {
+				return nil
+			}
+			// Compatible when the right side leaves v unbound, or binds it to the
+			// left's term through one of its shapes.
+			var options []sql.Expr
+			var unbound []sql.Expr
+			for _, alt := range rb.alts {
+				unbound = append(unbound, inactive(alt))
+				conds, exact, ok := q.unify(ab.alts[0], alt)
+				if !ok {
+					continue
+				}
+				if !exact {
+					return nil
+				}
+				options = append(options, sql.And(append([]sql.Expr{alt.active()}, conds...)...))
+			}
+			if rb.nullable {
+				options = append(options, sql.And(unbound...))
+			}
+			if len(options) == 0 {
+				on = append(on, sql.Binary{Op: "=", L: sql.Int(0), R: sql.Int(1)})
+				continue
+			}
+			on = append(on, or(options...))
+		}
+		if expr != nil {
+			cond, ok := q.exprSQL(nb, expr)
+			if !ok {
+				return nil
+			}
+			on = append(on, cond)
+		}
+		nb.from = append(nb.from, &sql.LeftJoin{Right: dt, On: sql.And(on...)})
+		out.branches = append(out.branches, nb)
+	}
+	return out
+}
+
+// union concatenates two relations: their branches side by side, each side
+// deduplicated first since UNION keeps duplicates across its sides.
+func (q *query) union(l, r *rel) *rel {
+	l, ok1 := q.deduped(l)
+	r, ok2 := q.deduped(r)
+	if !ok1 || !ok2 {
+		return nil
+	}
+	out := &rel{}
+	for _, v := range append(append([]algebra.Var(nil), l.vars...), r.vars...) {
+		out.addVar(v)
+	}
+	// A variable one side does not bind is NULL, so unbound, in that side's rows.
+	out.branches = append(append([]*branch(nil), l.branches...), r.branches...)
+	return out
+}
+
+// extend binds v in SQL when expr is a variable or a constant; false otherwise.
+func (q *query) extend(r *rel, v algebra.Var, expr algebra.Expr) bool {
+	for _, b := range r.branches {
+		if _, bound := b.vars[v]; bound {
+			return false
+		}
+	}
+	switch e := expr.(type) {
+	case algebra.Var:
+		for _, b := range r.branches {
+			if bd, ok := b.vars[e]; ok {
+				b.vars[v] = bd
+			}
+		}
+	case algebra.Const:
+		m := catalog.TermMap{Kind: catalog.Constant, Constant: e.Term, TermType: e.Term.Kind()}
+		for _, b := range r.branches {
+			b.vars[v] = binding{alts: []occurrence{{m: m}}}
+		}
+	default:
+		return false
+	}
+	r.addVar(v)
+	return true
+}

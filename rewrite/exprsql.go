@@ -1,0 +1,271 @@
+package rewrite
+
+import (
+	"strconv"
+
+	"veneer/catalog"
+	"veneer/catalog/rdf"
+	"veneer/catalog/source"
+	"veneer/rewrite/algebra"
+	"veneer/rewrite/sql"
+)
+
+// pushFilters moves each conjunct of the filters that SQL can evaluate with
+// SPARQL's meaning, in every branch, into the branches' WHERE clauses, and returns
+// the conjuncts left for in-process evaluation.
+//
+// SQL's three-valued logic matches SPARQL's error-as-unknown logic for AND, OR and
+// NOT (§17.2), so a conjunct can move when each comparison inside it yields NULL
+// exactly where SPARQL yields an error: that holds for comparisons of operands
+// whose RDF types are known from the mapping to be comparable.
+func (q *query) pushFilters(r *rel, filters []algebra.Expr) []algebra.Expr {
+	var residual []algebra.Expr
+	for _, f := range filters {
+		for _, c := range conjuncts(f) {
+			conds := make([]sql.Expr, len(r.branches))
+			ok := true
+			for i, b := range r.branches {
+				if conds[i], ok = q.exprSQL(b, c); !ok {
+					break
+				}
+			}
+			if !ok {
+				residual = append(residual, c)
+				continue
+			}
+			for i, b := range r.branches {
+				b.where = append(b.where, conds[i])
+			}
+		}
+	}
+	return residual
+}
+
+func conjuncts(e algebra.Expr) []algebra.Expr {
+	if c, ok := e.(algebra.Call); ok && c.Op == "&&" && len(c.Args) == 2 {
+		return append(conjuncts(c.Args[0]), conjuncts(c.Args[1])...)
+	}
+	return []algebra.Expr{e}
+}
+
+// class is the family of values an SQL operand holds, for deciding what SPARQL
+// comparisons mean on it.
+type class int
+
+const (
+	classNone class = iota
+	classNumeric
+	classString
+	classBoolean
+)
+
+// exprSQL translates a boolean SPARQL expression into an SQL condition over the
+// branch, when the translation keeps SPARQL's meaning.
+func (q *query) exprSQL(b *branch, e algebra.Expr) (sql.Expr, bool) {
+	c, ok := e.(algebra.Call)
+	if !ok || c.IRI != "" {
+		return nil, false
+	}
+	switch c.Op {
+	case "&&", "||":
+		if len(c.Args) != 2 {
+			return nil, false
+		}
+		l, ok1 := q.exprSQL(b, c.Args[0])
+		r, ok2 := q.exprSQL(b, c.Args[1])
+		op := "AND"
+		if c.Op == "||" {
+			op = "OR"
+		}
+		return sql.Binary{Op: op, L: l, R: r}, ok1 && ok2
+	case "!":
+		if len(c.Args) != 1 {
+			return nil, false
+		}
+		x, ok := q.exprSQL(b, c.Args[0])
+		return sql.Not{X: x}, ok
+	case "BOUND":
+		v, ok := c.Args[0].(algebra.Var)
+		if !ok {
+			return nil, false
+		}
+		bd, bound := b.vars[v]
+		if !bound {
+			return sql.Binary{Op: "=", L: sql.Int(0), R: sql.Int(1)}, true
+		}
+		var opts []sql.Expr
+		for _, o := range bd.alts {
+			opts = append(opts, o.active())
+		}
+		if cond := or(opts...); cond != nil {
+			return cond, true
+		}
+		return sql.Binary{Op: "=", L: sql.Int(1), R: sql.Int(1)}, true
+	case "=", "!=", "<", ">", "<=", ">=":
+		if len(c.Args) != 2 {
+			return nil, false
+		}
+		if cond, ok := q.termEquality(b, c); ok {
+			return cond, true
+		}
+		l, lc := q.valueSQL(b, c.Args[0])
+		r, rc := q.valueSQL(b, c.Args[1])
+		if lc == classNone || lc != rc {
+			return nil, false
+		}
+		_, lconst := l.(sql.Param)
+		_, rconst := r.(sql.Param)
+		if lconst && rconst {
+			return nil, false // two constants: nothing to gain in SQL
+		}
+		op := c.Op
+		if op == "!=" {
+			op = "<>"
+		}
+		return sql.Binary{Op: op, L: l, R: r, Exact: lc == classString}, true
+	}
+	return nil, false
+}
+
+// termEquality handles ?v = <iri> and sameTerm-like tests of a variable built by a
+// template or constant map against an IRI: the IRI is decoded into column values.
+func (q *query) termEquality(b *branch, c algebra.Call) (sql.Expr, bool) {
+	if c.Op != "=" && c.Op != "!=" {
+		return nil, false
+	}
+	v, ok := c.Args[0].(algebra.Var)
+	k, ok2 := c.Args[1].(algebra.Const)
+	if !ok || !ok2 {
+		v, ok = c.Args[1].(algebra.Var)
+		k, ok2 = c.Args[0].(algebra.Const)
+	}
+	iri, isIRI := k.Term.(rdf.IRI)
+	if !ok || !ok2 || !isIRI {
+		return nil, false
+	}
+	bd, bound := b.vars[v]
+	if !bound || !bd.solid() || bd.alts[0].m.TermType != rdf.KindIRI {
+		return nil, false
+	}
+	conds, match := q.constConds(bd.alts[0], iri)
+	eq := sql.And(conds...)
+	switch {
+	case !match:
+		eq = sql.Binary{Op: "=", L: sql.Int(0), R: sql.Int(1)}
+	case eq == nil:
+		eq = sql.Binary{Op: "=", L: sql.Int(1), R: sql.Int(1)}
+	}
+	if c.Op == "!=" {
+		return sql.Not{X: eq}, true
+	}
+	return eq, true
+}
+
+// valueSQL translates a variable bound to a typed literal column, or a literal
+// constant, into an SQL operand and its class.
+func (q *query) valueSQL(b *branch, e algebra.Expr) (sql.Expr, class) {
+	switch e := e.(type) {
+	case algebra.Var:
+		bd, ok := b.vars[e]
+		if !ok || len(bd.alts) != 1 {
+			return nil, classNone
+		}
+		o := bd.alts[0]
+		if o.m.Kind != catalog.Column || o.m.TermType != rdf.KindLiteral || o.m.Language != "" {
+			return nil, classNone
+		}
+		k := o.cols[0].Kind
+		natural := catalog.NaturalDatatype(k)
+		if natural == "" {
+			natural = rdf.XSDString
+		}
+		if o.m.Datatype != "" && o.m.Datatype != natural {
+			return nil, classNone
+		}
+		return o.exprs[0], kindClass(k)
+	case algebra.Const:
+		lit, ok := e.Term.(rdf.Literal)
+		if !ok {
+			return nil, classNone
+		}
+		switch lit.Datatype {
+		case rdf.XSDInteger:
+			n, err := strconv.ParseInt(lit.Lexical, 10, 64)
+			if err != nil {
+				return nil, classNone
+			}
+			return sql.Param{Value: n}, classNumeric
+		case rdf.XSDDecimal, rdf.XSDDouble:
+			f, err := strconv.ParseFloat(lit.Lexical, 64)
+			if err != nil {
+				return nil, classNone
+			}
+			return sql.Param{Value: f}, classNumeric
+		case rdf.XSDString:
+			return sql.Param{Value: lit.Lexical}, classString
+		case rdf.XSDBoolean:
+			v, ok := catalog.ParseLexical(lit.Lexical, source.TypeBoolean)
+			if !ok {
+				return nil, classNone
+			}
+			return sql.Param{Value: v}, classBoolean
+		}
+	}
+	return nil, classNone
+}
+
+func kindClass(k source.TypeKind) class {
+	switch k {
+	case source.TypeInteger, source.TypeFloat, source.TypeDecimal:
+		return classNumeric
+	case source.TypeString:
+		return classString
+	case source.TypeBoolean:
+		return classBoolean
+	}
+	return classNone
+}
+
+// orderBy expresses ORDER BY in SQL when every condition is a variable whose terms
+// come from one typed literal column: SQL then orders as SPARQL does (numbers by
+// value, strings by code point, unbound first).
+func (q *query) orderBy(r *rel, conds []algebra.OrderCond) (func([]Slot) ([]orderCol, bool), bool) {
+	for _, c := range conds {
+		if _, ok := c.Expr.(algebra.Var); !ok {
+			return nil, false
+		}
+	}
+	return func(slots []Slot) ([]orderCol, bool) {
+		var out []orderCol
+		for _, c := range conds {
+			v := c.Expr.(algebra.Var)
+			var slot *Slot
+			for i := range slots {
+				if slots[i].Var == v {
+					slot = &slots[i]
+				}
+			}
+			if slot == nil {
+				continue // never bound: every solution ties
+			}
+			if len(slot.Builders) != 1 {
+				return nil, false
+			}
+			bl := slot.Builders[0]
+			m := bl.Map
+			if m.Kind != catalog.Column || m.TermType != rdf.KindLiteral || m.Language != "" {
+				return nil, false
+			}
+			natural := catalog.NaturalDatatype(bl.Kinds[0])
+			if m.Datatype != "" && m.Datatype != natural {
+				return nil, false
+			}
+			cl := kindClass(bl.Kinds[0])
+			if cl == classNone {
+				return nil, false
+			}
+			out = append(out, orderCol{col: bl.Cols[0], desc: c.Desc, exact: cl == classString})
+		}
+		return out, true
+	}, true
+}

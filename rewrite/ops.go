@@ -1,0 +1,124 @@
+package rewrite
+
+import (
+	"veneer/catalog/rdf"
+	"veneer/rewrite/algebra"
+	"veneer/rewrite/sql"
+)
+
+// Op is a node of a plan's operator tree. Leaves are Scans, whose SQL the source
+// runs; every other operator runs in-process (rewrite/exec) over the solutions of
+// its inputs, with the meaning the algebra operator of the same name has (§18.5).
+// The interface is sealed.
+type Op interface{ op() }
+
+// Scan runs one SQL statement and decodes each row into a solution. A nil Stmt
+// means no triples map can produce an answer: the scan yields nothing and no SQL
+// runs.
+type Scan struct {
+	Stmt sql.Stmt
+	// SQL and Args are Stmt printed for the source's dialect.
+	SQL  string
+	Args []any
+	// Slots decode each row: one per variable the SQL binds.
+	Slots []Slot
+	// Checks are equalities between two ways of building one variable's term that
+	// SQL could not compare; a row whose check fails is dropped.
+	Checks []Check
+}
+
+// Filter keeps the solutions for which every expression's effective boolean
+// value is true.
+type Filter struct {
+	Input Op
+	Exprs []algebra.Expr
+}
+
+// Extend binds Var to Expr's value; an error leaves Var unbound (§18.5 Extend).
+type Extend struct {
+	Input Op
+	Var   algebra.Var
+	Expr  algebra.Expr
+}
+
+// Join is the compatible-solution join of two inputs.
+type Join struct{ Left, Right Op }
+
+// LeftJoin is OPTIONAL: Left's solutions extended by each compatible Right
+// solution for which Expr (nil: true) holds, or kept alone when none does.
+type LeftJoin struct {
+	Left, Right Op
+	Expr        algebra.Expr
+}
+
+// Union concatenates two inputs.
+type Union struct{ Left, Right Op }
+
+// Minus removes Left solutions compatible with a Right solution sharing a
+// variable with them.
+type Minus struct{ Left, Right Op }
+
+// Values yields inline data: each row gives a term or nil (UNDEF) per variable.
+type Values struct {
+	Vars []algebra.Var
+	Rows [][]rdf.Term
+}
+
+// Group partitions Input by Keys and computes the aggregates per group (§18.5
+// Group and Aggregation); key variables are bound to their key values.
+type Group struct {
+	Input Op
+	Keys  []algebra.GroupKey
+	Aggs  []algebra.AggBinding
+}
+
+// Order sorts Input (§15.1: unbound < blank node < IRI < literal, then by value).
+type Order struct {
+	Input Op
+	Conds []algebra.OrderCond
+}
+
+// Project keeps only Vars bound in each solution.
+type Project struct {
+	Input Op
+	Vars  []algebra.Var
+}
+
+// Distinct removes duplicate solutions.
+type Distinct struct{ Input Op }
+
+// Slice skips Offset solutions and keeps Limit of the rest (-1: all).
+type Slice struct {
+	Input         Op
+	Offset, Limit int64
+}
+
+var (
+	_ Op = (*Scan)(nil)
+	_ Op = (*Filter)(nil)
+	_ Op = (*Extend)(nil)
+	_ Op = (*Join)(nil)
+	_ Op = (*LeftJoin)(nil)
+	_ Op = (*Union)(nil)
+	_ Op = (*Minus)(nil)
+	_ Op = (*Values)(nil)
+	_ Op = (*Group)(nil)
+	_ Op = (*Order)(nil)
+	_ Op = (*Project)(nil)
+	_ Op = (*Distinct)(nil)
+	_ Op = (*Slice)(nil)
+)
+
+func (*Scan) op()     {}
+func (*Filter) op()   {}
+func (*Extend) op()   {}
+func (*Join) op()     {}
+func (*LeftJoin) op() {}
+func (*Union) op()    {}
+func (*Minus) op()    {}
+func (*Values) op()   {}
+func (*Group) op()    {}
+func (*Order) op()    {}
+func (*Project) op()  {}
+func (*Distinct) op() {}
+func (*Slice) op()    {}

@@ -1,0 +1,134 @@
+package server
+
+import (
+	"context"
+	"database/sql"
+	"time"
+
+	"veneer/catalog/rdf"
+	"veneer/server/results"
+)
+
+// Engine answers SPARQL queries; FromExec adapts veneer's query engine. The
+// server calls it from many goroutines at once.
+type Engine interface {
+	// Query starts answering q. The context bounds the whole answer: the
+	// cursors of the Answer stop, and the SQL is cancelled, when it ends.
+	// Errors carry an exec.ErrorKind (see exec.Error), which decides the
+	// HTTP status.
+	Query(ctx context.Context, q Query) (*Answer, error)
+	// Ready reports whether the engine can answer: its catalog is loaded and
+	// every source it reads answers.
+	Ready(ctx context.Context) error
+}
+
+// Query is one query operation of the SPARQL 1.1 Protocol (§2.1).
+type Query struct {
+	// Text is the query string.
+	Text string
+	// DefaultGraphs and NamedGraphs are the IRIs of the protocol's
+	// default-graph-uri and named-graph-uri parameters. When either is
+	// non-empty they are the RDF dataset of the query, in place of any FROM
+	// and FROM NAMED clauses in Text (SPARQL 1.1 Protocol §2.1.4).
+	DefaultGraphs, NamedGraphs []rdf.IRI
+	// Base is the IRI that relative IRIs in Text resolve against until a BASE
+	// declaration replaces it: the endpoint's URL as the client asked for it
+	// (the protocol lets the service define the base, SPARQL 1.1 Query §4.1.1.1).
+	Base string
+}
+
+// Answer is the answer to a query, of one of the three kinds the query forms
+// have. The server reads it once and then closes it.
+type Answer struct {
+	// Kind says which of the fields below holds the answer.
+	Kind results.Kind
+	// Solutions holds the answer of a SELECT query.
+	Solutions Solutions
+	// Boolean holds the answer of an ASK query.
+	Boolean bool
+	// Graph holds the answer of a CONSTRUCT or DESCRIBE query.
+	Graph Triples
+	// Prefixes are the query's prefix declarations, which make a Turtle
+	// answer easier to read.
+	Prefixes []rdf.Prefix
+	// SQL lists the SQL statements the answer runs, with placeholders in
+	// place of values, for the slow-query log.
+	SQL []string
+	// Stats, when set, reports what the engine measured; the server calls it
+	// once, after closing the answer, for its metrics.
+	Stats func() Stats
+}
+
+// Close closes the answer's cursor.
+func (a *Answer) Close() error {
+	switch {
+	case a.Kind == results.Solutions && a.Solutions != nil:
+		return a.Solutions.Close()
+	case a.Kind == results.Graph && a.Graph != nil:
+		return a.Graph.Close()
+	}
+	return nil
+}
+
+// Stats are the measurements of one answer.
+type Stats struct {
+	// SQLDuration is the time spent in the database: running the statements
+	// and reading their rows.
+	SQLDuration time.Duration
+	// SQLRows is the number of rows read from the database.
+	SQLRows int64
+	// ResidualEvaluations counts the operators the engine evaluated
+	// in-process on decoded solutions because SQL could not express them
+	// (filters, term checks, distinct, slices), one per solution each.
+	ResidualEvaluations int64
+}
+
+// Solutions is a cursor over query solutions, in the manner of
+// database/sql.Rows.
+type Solutions interface {
+	// Vars names the variables, without "?", in the order of Solution's terms.
+	Vars() []string
+	// Next advances to the next solution and reports whether there is one.
+	Next() bool
+	// Solution returns the current solution, nil for an unbound variable. The
+	// slice may be reused by the next call to Next.
+	Solution() []rdf.Term
+	// Err returns the error that ended the iteration, if any.
+	Err() error
+	// Close releases the cursor.
+	Close() error
+}
+
+// Triples is a cursor over the triples of a CONSTRUCT or DESCRIBE answer.
+type Triples interface {
+	// Next advances to the next triple and reports whether there is one.
+	Next() bool
+	// Triple returns the current triple.
+	Triple() rdf.Triple
+	// Err returns the error that ended the iteration, if any.
+	Err() error
+	// Close releases the cursor.
+	Close() error
+}
+
+// Explainer is implemented by engines that can say how they would answer a
+// query; the explain route needs it.
+type Explainer interface {
+	Explain(ctx context.Context, q Query) (*Explanation, error)
+}
+
+// Explanation says how an engine answers a query.
+type Explanation struct {
+	// Algebra is the query's SPARQL algebra expression.
+	Algebra string `json:"algebra"`
+	// Plan is the plan: the SQL for each source with its parameters, and the
+	// residual operators that run in-process.
+	Plan string `json:"plan"`
+}
+
+// PoolStater is implemented by engines that can report on the connection
+// pools of their sources, for the metrics.
+type PoolStater interface {
+	// PoolStats reports on each source's pool, by source name.
+	PoolStats() map[string]sql.DBStats
+}

@@ -1,0 +1,84 @@
+package server
+
+import (
+	"context"
+	"fmt"
+	"net/http"
+	"sync/atomic"
+	"time"
+)
+
+// admission bounds how many queries run at once. A query beyond the limit
+// waits in a queue of bounded length for at most a set time; a query that
+// finds the queue full is turned away at once. Both refusals are 503 with
+// Retry-After, so that a client under overload learns it in microseconds
+// instead of piling onto the database.
+type admission struct {
+	slots    chan struct{} // one token per running query; nil: no limit
+	maxQueue int64
+	wait     time.Duration
+	queued   atomic.Int64
+	m        *metrics
+}
+
+func newAdmission(l Limits, m *metrics) *admission {
+	a := &admission{maxQueue: int64(l.MaxQueued), wait: l.QueueTimeout, m: m}
+	if l.MaxConcurrent > 0 {
+		a.slots = make(chan struct{}, l.MaxConcurrent)
+	}
+	return a
+}
+
+// retryAfter is what a refused client is told to wait: long enough for a
+// query slot to turn over on a busy server, short enough for a dashboard
+// (common practice, from no specification).
+const retryAfter = time.Second
+
+// acquire waits for a slot and returns the function that gives it back.
+func (a *admission) acquire(ctx context.Context) (release func(), err error) {
+	if a.slots == nil {
+		a.m.inFlight.Inc()
+		return a.m.inFlight.Dec, nil
+	}
+	select {
+	case a.slots <- struct{}{}:
+		return a.running(), nil
+	default:
+	}
+	if a.queued.Add(1) > a.maxQueue {
+		a.queued.Add(-1)
+		a.m.rejected.WithLabelValues("queue_full").Inc()
+		return nil, &problem{status: http.StatusServiceUnavailable, retryAfter: retryAfter,
+			msg: fmt.Sprintf("the server is at its limit of %d running and %d waiting queries; try again shortly", cap(a.slots), a.maxQueue)}
+	}
+	a.m.queued.Inc()
+	defer func() {
+		a.queued.Add(-1)
+		a.m.queued.Dec()
+	}()
+	var timeout <-chan time.Time
+	if a.wait > 0 {
+		t := time.NewTimer(a.wait)
+		defer t.Stop()
+		timeout = t.C
+	}
+	select {
+	case a.slots <- struct{}{}:
+		return a.running(), nil
+	case <-timeout:
+		a.m.rejected.WithLabelValues("queue_timeout").Inc()
+		return nil, &problem{status: http.StatusServiceUnavailable, retryAfter: retryAfter,
+			msg: fmt.Sprintf("the query waited %s for one of the %d query slots; try again shortly", a.wait, cap(a.slots))}
+	case <-ctx.Done():
+		return nil, &problem{status: statusCanceled, msg: "the request was canceled while it waited", err: ctx.Err()}
+	}
+}
+
+// running counts a query that got its slot and returns its release.
+func (a *admission) running() func() {
+	a.m.inFlight.Inc()
+	return func() {
+		a.m.inFlight.Dec()
+		<-a.slots
+	}
+}

@@ -1,0 +1,142 @@
+package server
+
+import (
+	"errors"
+	"fmt"
+	"net/http"
+	"slices"
+	"strings"
+
+	"veneer/catalog/rdf"
+	"veneer/server/results"
+)
+
+// holdRows is how many solutions or triples the server reads before it sends
+// the status line. An answer that fails, or goes over the row limit, within
+// them is refused with a proper status and message instead of an aborted
+// body. It matches the result writers' flush interval, so holding them back
+// costs a client no latency it would not have had anyway.
+const holdRows = 512
+
+// format picks the result format for an answer of kind k: the format
+// parameter when given, otherwise the Accept header (results.Negotiate).
+func format(op *operation, r *http.Request, k results.Kind) (results.Format, error) {
+	if op.format != "" {
+		f, ok := results.Lookup(op.format, k)
+		if !ok {
+			return f, badRequest("format %q cannot carry a %s answer; use one of %s", op.format, k, formatNames(k))
+		}
+		return f, nil
+	}
+	f, ok := results.Negotiate(strings.Join(r.Header.Values("Accept"), ","), k)
+	if !ok {
+		return f, &problem{status: http.StatusNotAcceptable,
+			msg: fmt.Sprintf("the Accept header rules out every format for a %s answer: %s", k, formatNames(k))}
+	}
+	return f, nil
+}
+
+func formatNames(k results.Kind) string {
+	var names []string
+	for _, f := range results.Formats(k) {
+		names = append(names, f.MediaType()+" ("+f.Name()+")")
+	}
+	return strings.Join(names, ", ")
+}
+
+// writeAnswer streams an answer in format f and returns the number of
+// solutions or triples sent.
+func (s *Server) writeAnswer(w http.ResponseWriter, a *Answer, f results.Format) (int64, error) {
+	h := w.Header()
+	h.Set("Content-Type", f.ContentType())
+	h.Add("Vary", "Accept")
+	max := s.cfg.Limits.MaxRows
+	switch a.Kind {
+	case results.Boolean:
+		return 0, results.WriteBoolean(f, w, a.Boolean)
+	case results.Solutions:
+		out, err := results.NewSelectWriter(f, w)
+		if err != nil {
+			return 0, err
+		}
+		cur := a.Solutions
+		row := func(keep bool) []rdf.Term {
+			if keep {
+				return slices.Clone(cur.Solution())
+			}
+			return cur.Solution()
+		}
+		begin := func() error { return out.Begin(cur.Vars()) }
+		n, err := stream(cur, row, begin, out.Row, out.End, max)
+		return n, s.rowLimit(err, max, "solutions")
+	case results.Graph:
+		out, err := results.NewGraphWriter(f, w, a.Prefixes)
+		if err != nil {
+			return 0, err
+		}
+		cur := a.Graph
+		row := func(bool) rdf.Triple { return cur.Triple() }
+		n, err := stream(cur, row, out.Begin, out.Triple, out.End, max)
+		return n, s.rowLimit(err, max, "triples")
+	}
+	return 0, fmt.Errorf("server: answer of unknown kind %v", a.Kind)
+}
+
+// errRowLimit is what stream returns for an answer over the row limit.
+var errRowLimit = errors.New("over the row limit")
+
+// rowLimit counts and explains errRowLimit.
+func (s *Server) rowLimit(err error, max int64, what string) error {
+	if err != errRowLimit {
+		return err
+	}
+	s.metrics.rowLimit.Inc()
+	return tooLarge("the answer has more than %d %s, the most this endpoint returns; narrow the query or add a LIMIT", max, what)
+}
+
+// stream copies the rows of a cursor to a result writer (begin, put, end),
+// holding the first holdRows rows back before it begins (see holdRows); row
+// returns the current row, a copy that outlives the cursor's next step when
+// keep is set. More than max rows (when max > 0) is errRowLimit, and any
+// failure leaves the document unfinished.
+func stream[T any](cur interface {
+	Next() bool
+	Err() error
+}, row func(keep bool) T, begin func() error, put func(T) error, end func() error, max int64) (int64, error) {
+	var held []T
+	for len(held) < holdRows && cur.Next() {
+		if max > 0 && int64(len(held)) >= max {
+			return 0, errRowLimit
+		}
+		held = append(held, row(true))
+	}
+	if err := cur.Err(); err != nil {
+		return 0, err
+	}
+	if err := begin(); err != nil {
+		return 0, err
+	}
+	var n int64
+	for _, r := range held {
+		if err := put(r); err != nil {
+			return n, err
+		}
+		n++
+	}
+	if len(held) < holdRows {
+		return n, end()
+	}
+	for cur.Next() {
+		if max > 0 && n >= max {
+			return n, errRowLimit
+		}
+		if err := put(row(false)); err != nil {
+			return n, err
+		}
+		n++
+	}
+	if err := cur.Err(); err != nil {
+		return n, err
+	}
+	return n, end()
+}
