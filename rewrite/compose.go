@@ -1,6 +1,8 @@
 package rewrite
 
 import (
+	"fmt"
+
 	"veneer/catalog"
 	"veneer/catalog/source"
 	"veneer/rewrite/algebra"
@@ -39,6 +41,16 @@ func (q *query) relation(n algebra.Node, graph algebra.Item) (*rel, modifiers, e
 		}
 		return r, none, nil
 	case algebra.Join:
+		if vals, other, ok := valuesSide(n); ok {
+			r, mod, err := q.relation(other, graph)
+			if r == nil || err != nil || !plain(mod) {
+				return nil, none, err
+			}
+			if !q.restrict(r, vals) {
+				return nil, none, nil
+			}
+			return r, none, nil
+		}
 		l, r, err := q.relations(n.Left, n.Right, graph)
 		if l == nil || err != nil {
 			return nil, none, err
@@ -111,6 +123,12 @@ func (q *query) relation(n algebra.Node, graph algebra.Item) (*rel, modifiers, e
 			mod.orderVars = append(mod.orderVars, c.Expr.(algebra.Var))
 		}
 		return r, mod, nil
+	case algebra.Group:
+		r, mod, err := q.relation(n.Input, graph)
+		if r == nil || err != nil || !plain(mod) {
+			return nil, none, err
+		}
+		return q.group(r, n), none, nil
 	case algebra.Slice:
 		r, mod, err := q.relation(n.Input, graph)
 		if r == nil || err != nil {
@@ -410,4 +428,94 @@ func (q *query) extend(r *rel, v algebra.Var, expr algebra.Expr) bool {
 	}
 	r.addVar(v)
 	return true
+}
+
+// valuesSide splits a join with inline data into the data and the other side.
+func valuesSide(n algebra.Join) (algebra.Values, algebra.Node, bool) {
+	if v, ok := n.Left.(algebra.Values); ok {
+		return v, n.Right, true
+	}
+	if v, ok := n.Right.(algebra.Values); ok {
+		return v, n.Left, true
+	}
+	return algebra.Values{}, nil, false
+}
+
+// restrict joins inline data into a relation as conditions: each row's terms are
+// decoded into the columns of the maps that bind its variables, so the join runs
+// on the columns an index serves (an IN list for one column). Rows no map can
+// produce drop out without SQL. It fails when a VALUES variable is not bound by
+// one term map in every branch: the data would have to supply its value.
+func (q *query) restrict(r *rel, vals algebra.Values) bool {
+	var kept []*branch
+	for _, b := range r.branches {
+		for _, v := range vals.Vars {
+			if !b.vars[v].solid() {
+				return false
+			}
+		}
+		var rows [][]sql.Expr
+		for _, row := range vals.Rows {
+			var conds []sql.Expr
+			match := true
+			for i, v := range vals.Vars {
+				if row[i] == nil {
+					continue // UNDEF is compatible with anything
+				}
+				c, ok := q.constConds(b.vars[v].alts[0], row[i])
+				if !ok {
+					match = false
+					break
+				}
+				conds = append(conds, c...)
+			}
+			if match {
+				rows = append(rows, conds)
+			}
+		}
+		if len(rows) == 0 {
+			continue // no row of the data can join this branch
+		}
+		b.where = append(b.where, rowsCondition(rows))
+		kept = append(kept, b)
+	}
+	r.branches = kept
+	return true
+}
+
+// rowsCondition is the disjunction of the rows' conditions, as an IN list when
+// every row equates the same one column with a value.
+func rowsCondition(rows [][]sql.Expr) sql.Expr {
+	var col sql.Expr
+	var list []sql.Expr
+	exact := false
+	for _, row := range rows {
+		if len(row) != 1 {
+			list = nil
+			break
+		}
+		eq, ok := row[0].(sql.Binary)
+		if !ok || eq.Op != "=" {
+			list = nil
+			break
+		}
+		if _, isParam := eq.R.(sql.Param); !isParam || (col != nil && fmt.Sprintf("%#v", col) != fmt.Sprintf("%#v", eq.L)) {
+			list = nil
+			break
+		}
+		col, exact = eq.L, eq.Exact
+		list = append(list, eq.R)
+	}
+	if list != nil {
+		return sql.In{X: col, List: list, Exact: exact}
+	}
+	var opts []sql.Expr
+	for _, row := range rows {
+		c := sql.And(row...)
+		if c == nil {
+			return nil // a row of UNDEFs matches everything
+		}
+		opts = append(opts, c)
+	}
+	return or(opts...)
 }

@@ -51,9 +51,9 @@ type Answer struct {
 	// Prefixes are the query's prefix declarations, which make a Turtle
 	// answer easier to read.
 	Prefixes []rdf.Prefix
-	// SQL lists the SQL statements the answer runs, with placeholders in
-	// place of values, for the slow-query log.
-	SQL []string
+	// SQL, when set, returns the SQL the answer runs, as text for people:
+	// the slow-query log calls it for the queries it logs, and only for those.
+	SQL func() []string
 	// Stats, when set, reports what the engine measured; the server calls it
 	// once, after closing the answer, for its metrics.
 	Stats func() Stats

@@ -1,272 +1,382 @@
-// Package server is veneer's HTTP interface: the SPARQL 1.1 Protocol on /sparql,
-// health and readiness probes, and Prometheus metrics.
+// Package server is veneer's HTTP interface: the SPARQL 1.1 Protocol on
+// /sparql (with the service description and the query page on a GET without a
+// query), an explain route, the query page at /, health and readiness probes,
+// and Prometheus metrics. It guards the databases behind it with a time limit
+// per query, a concurrency limit with a bounded queue, size limits on requests
+// and answers, and optional bearer-token authentication.
 package server
 
 import (
 	"context"
+	"encoding/json"
 	"errors"
 	"fmt"
-	"io"
 	"log/slog"
-	"mime"
 	"net/http"
-	"strconv"
+	"strings"
+	"sync/atomic"
 	"time"
 
 	"github.com/go-chi/chi/v5"
 	"github.com/prometheus/client_golang/prometheus"
 	"github.com/prometheus/client_golang/prometheus/promhttp"
 
-	"veneer/catalog/rdf"
 	"veneer/rewrite/exec"
-	"veneer/server/results"
+	"veneer/server/console"
 )
 
-// Solutions is a cursor over query solutions.
-type Solutions interface {
-	Vars() []string
-	Next() bool
-	Solution() []rdf.Term
-	Err() error
-	Close() error
-}
-
-// Engine answers query text; *exec.Engine is the one veneer uses.
-type Engine interface {
-	Query(ctx context.Context, text string) (Solutions, error)
-	Ready(ctx context.Context) error
+// Limits protect the sources. A zero value turns a limit off.
+type Limits struct {
+	// QueryTimeout bounds each query, SQL and streaming included; a client
+	// may ask for less with the timeout parameter, never for more.
+	QueryTimeout time.Duration
+	// MaxConcurrent is the number of queries that run at once.
+	MaxConcurrent int
+	// MaxQueued is the number of queries that may wait for one of the
+	// MaxConcurrent slots; one more is refused at once with 503.
+	MaxQueued int
+	// QueueTimeout bounds the wait for a slot; past it the query is refused
+	// with 503.
+	QueueTimeout time.Duration
+	// MaxQueryBytes bounds the length of the query text.
+	MaxQueryBytes int64
+	// MaxBodyBytes bounds a request body.
+	MaxBodyBytes int64
+	// MaxRows bounds the solutions or triples of one answer. An answer over
+	// it is refused, or aborted if its first part has been sent; it is never
+	// cut short as though it were complete.
+	MaxRows int64
 }
 
 // Config holds the server's settings.
 type Config struct {
-	// QueryTimeout bounds each query, SQL included.
-	QueryTimeout time.Duration
-	// MaxBody bounds a request body in bytes.
-	MaxBody int64
+	Limits Limits
+	// TrustForwarded makes the server take the scheme, host and path prefix
+	// the client used from the X-Forwarded-Proto, X-Forwarded-Host and
+	// X-Forwarded-Prefix headers, for the endpoint IRI it shows. Set it only
+	// behind a proxy that sets them.
+	TrustForwarded bool
+	// CORSOrigins lists the origins whose pages may read answers; "*" is any.
+	CORSOrigins []string
+	// Tokens, when non-empty, are the bearer tokens the query and explain
+	// routes require.
+	Tokens *Tokens
+	// SlowQuery is the duration from which a query is logged with its SQL; 0
+	// logs none.
+	SlowQuery time.Duration
+	// DrainTimeout is how long Serve lets running requests finish when it
+	// shuts down before it cancels them.
+	DrainTimeout time.Duration
+	// TLSCert and TLSKey are PEM files; with both, Serve speaks HTTPS.
+	TLSCert, TLSKey string
+	// Reload builds a new engine, from the sources and mappings as they are
+	// now, for Reload; nil means the server cannot reload.
+	Reload func(ctx context.Context) (Engine, error)
+	// Console configures the query page; its endpoint URLs are set by the
+	// server.
+	Console console.Options
 }
 
 // DefaultConfig returns the settings veneer starts with.
 func DefaultConfig() Config {
-	return Config{QueryTimeout: 30 * time.Second, MaxBody: 1 << 20}
+	return Config{
+		Limits: Limits{
+			QueryTimeout:  30 * time.Second,
+			MaxConcurrent: 16,
+			MaxQueued:     64,
+			QueueTimeout:  10 * time.Second,
+			MaxQueryBytes: 256 << 10,
+			MaxBodyBytes:  1 << 20,
+			MaxRows:       1_000_000,
+		},
+		SlowQuery:    2 * time.Second,
+		DrainTimeout: 20 * time.Second,
+	}
 }
 
-// Server serves one engine.
+// Server serves one engine at a time; Reload swaps it.
 type Server struct {
-	cfg     Config
-	engine  Engine
-	log     *slog.Logger
-	metrics *metrics
-	gather  prometheus.Gatherer
+	cfg       Config
+	engine    atomic.Pointer[engineBox]
+	log       *slog.Logger
+	metrics   *metrics
+	gather    prometheus.Gatherer
+	admission *admission
+	auth      authenticator
+	console   *console.Console
+	draining  atomic.Bool
 }
+
+// engineBox lets an atomic.Pointer hold an interface value.
+type engineBox struct{ Engine }
 
 // New builds a server. Metrics are registered with reg; gather serves /metrics.
-func New(cfg Config, engine Engine, log *slog.Logger, reg prometheus.Registerer, gather prometheus.Gatherer) *Server {
-	return &Server{cfg: cfg, engine: engine, log: log, metrics: newMetrics(reg), gather: gather}
+func New(cfg Config, engine Engine, log *slog.Logger, reg prometheus.Registerer, gather prometheus.Gatherer) (*Server, error) {
+	s := &Server{cfg: cfg, log: log, metrics: newMetrics(reg), gather: gather}
+	s.engine.Store(&engineBox{engine})
+	s.admission = newAdmission(cfg.Limits, s.metrics)
+	s.auth.tokens.Store(cfg.Tokens)
+	reg.MustRegister(newPoolCollector(s.currentEngine))
+	co := cfg.Console
+	co.Endpoint, co.Explain = "sparql", "explain"
+	var err error
+	if s.console, err = console.New(co); err != nil {
+		return nil, err
+	}
+	return s, nil
 }
+
+func (s *Server) currentEngine() Engine { return s.engine.Load().Engine }
 
 // Handler returns the HTTP routes.
 func (s *Server) Handler() http.Handler {
 	r := chi.NewRouter()
-	r.Get("/sparql", s.instrument("sparql", s.sparql))
-	r.Post("/sparql", s.instrument("sparql", s.sparql))
-	r.Get("/healthz", func(w http.ResponseWriter, _ *http.Request) { io.WriteString(w, "ok\n") })
-	r.Get("/readyz", s.ready)
-	r.Handle("/metrics", promhttp.HandlerFor(s.gather, promhttp.HandlerOpts{}))
+	r.Use(s.observe, cors(s.cfg.CORSOrigins))
+	r.HandleFunc("/sparql", s.handle("sparql", s.sparql))
+	r.HandleFunc("/explain", s.handle("explain", s.explain))
+	r.Get("/", s.handle("console", func(w http.ResponseWriter, r *http.Request) error {
+		s.console.ServePage(w, r)
+		return nil
+	}))
+	r.Get("/"+console.AssetPrefix+"{name}", s.handle("console", func(w http.ResponseWriter, r *http.Request) error {
+		s.console.ServeAsset(w, r, chi.URLParam(r, "name"))
+		return nil
+	}))
+	r.Get("/healthz", s.handle("health", func(w http.ResponseWriter, _ *http.Request) error {
+		w.Header().Set("Content-Type", "text/plain; charset=utf-8")
+		w.Write([]byte("ok\n"))
+		return nil
+	}))
+	r.Get("/readyz", s.handle("health", s.ready))
+	metrics := promhttp.HandlerFor(s.gather, promhttp.HandlerOpts{})
+	r.Get("/metrics", s.handle("metrics", func(w http.ResponseWriter, r *http.Request) error {
+		metrics.ServeHTTP(w, r)
+		return nil
+	}))
 	return r
 }
 
-func (s *Server) ready(w http.ResponseWriter, r *http.Request) {
+// ready answers the readiness probe: 503 while the server drains or when the
+// engine cannot answer. The cause goes to the log only.
+func (s *Server) ready(w http.ResponseWriter, r *http.Request) error {
+	if s.draining.Load() {
+		return &problem{status: http.StatusServiceUnavailable, msg: "shutting down"}
+	}
 	ctx, cancel := context.WithTimeout(r.Context(), 2*time.Second)
 	defer cancel()
-	if err := s.engine.Ready(ctx); err != nil {
-		http.Error(w, "source not ready", http.StatusServiceUnavailable)
-		s.log.Warn("readiness check failed", "err", err)
-		return
+	if err := s.currentEngine().Ready(ctx); err != nil {
+		return &problem{status: http.StatusServiceUnavailable, msg: "not ready: a source does not answer", err: err}
 	}
-	io.WriteString(w, "ready\n")
-}
-
-// queryText extracts the query from a SPARQL Protocol request (SPARQL 1.1
-// Protocol §2.1: GET with ?query=, POST form-encoded, POST application/sparql-query).
-func (s *Server) queryText(r *http.Request) (string, *httpError) {
-	if r.Method == http.MethodGet {
-		q := r.URL.Query()["query"]
-		if len(q) != 1 {
-			return "", &httpError{http.StatusBadRequest, "expected exactly one 'query' parameter"}
-		}
-		return q[0], nil
-	}
-	r.Body = http.MaxBytesReader(nil, r.Body, s.cfg.MaxBody)
-	mt, _, err := mime.ParseMediaType(r.Header.Get("Content-Type"))
-	if err != nil {
-		return "", &httpError{http.StatusUnsupportedMediaType, "missing or malformed Content-Type"}
-	}
-	switch mt {
-	case "application/x-www-form-urlencoded":
-		if err := r.ParseForm(); err != nil {
-			return "", &httpError{http.StatusBadRequest, "reading the form: " + err.Error()}
-		}
-		q := r.PostForm["query"]
-		if len(q) != 1 {
-			return "", &httpError{http.StatusBadRequest, "expected exactly one 'query' parameter"}
-		}
-		return q[0], nil
-	case "application/sparql-query":
-		b, err := io.ReadAll(r.Body)
-		if err != nil {
-			return "", &httpError{http.StatusRequestEntityTooLarge, "reading the body: " + err.Error()}
-		}
-		return string(b), nil
-	}
-	return "", &httpError{http.StatusUnsupportedMediaType, "unsupported Content-Type " + mt}
-}
-
-type httpError struct {
-	status int
-	msg    string
-}
-
-// statusOf maps an engine failure to an HTTP status.
-func statusOf(err error) int {
-	switch exec.KindOf(err) {
-	case exec.BadQuery:
-		return http.StatusBadRequest
-	case exec.Timeout, exec.Unavailable:
-		return http.StatusServiceUnavailable
-	case exec.TooLarge:
-		return http.StatusRequestEntityTooLarge
-	case exec.Canceled:
-		return 499 // the client went away; nobody reads it, the logs do
-	}
-	return http.StatusInternalServerError
-}
-
-func (s *Server) sparql(w http.ResponseWriter, r *http.Request) {
-	text, herr := s.queryText(r)
-	if herr != nil {
-		http.Error(w, herr.msg, herr.status)
-		return
-	}
-	ctx, cancel := context.WithTimeout(r.Context(), s.cfg.QueryTimeout)
-	defer cancel()
-	cur, err := s.engine.Query(ctx, text)
-	if err != nil {
-		status := statusOf(err)
-		if status >= 500 {
-			s.log.Error("query failed", "err", err)
-			http.Error(w, "the query could not be answered: "+publicReason(err), status)
-			return
-		}
-		http.Error(w, err.Error(), status)
-		return
-	}
-	defer cur.Close()
-	w.Header().Set("Content-Type", "application/sparql-results+json")
-	out := results.NewJSON(w)
-	if err := stream(out, cur); err != nil {
-		s.metrics.streamFailures.Inc()
-		s.log.Error("query failed while streaming its results", "err", err)
-		// Abort the chunked body so that the client cannot take a cut-off result
-		// for a complete one.
-		panic(http.ErrAbortHandler)
-	}
-}
-
-// publicReason describes a server-side failure without details that may carry
-// internals (SQL text, addresses, credentials).
-func publicReason(err error) string {
-	switch exec.KindOf(err) {
-	case exec.Timeout:
-		return "it ran past its time limit"
-	case exec.Unavailable:
-		return "the database is unavailable"
-	}
-	return "internal error"
-}
-
-func stream(out results.SelectWriter, cur Solutions) error {
-	if err := out.Begin(cur.Vars()); err != nil {
-		return err
-	}
-	for cur.Next() {
-		if err := out.Row(cur.Solution()); err != nil {
-			return err
-		}
-	}
-	if err := cur.Err(); err != nil {
-		return err
-	}
-	return out.End()
-}
-
-// statusRecorder remembers the status a handler wrote.
-type statusRecorder struct {
-	http.ResponseWriter
-	status int
-}
-
-func (w *statusRecorder) WriteHeader(code int) {
-	if w.status == 0 {
-		w.status = code
-	}
-	w.ResponseWriter.WriteHeader(code)
-}
-
-func (w *statusRecorder) Write(b []byte) (int, error) {
-	if w.status == 0 {
-		w.status = http.StatusOK
-	}
-	return w.ResponseWriter.Write(b)
-}
-
-// Flush keeps streaming working through the wrapper.
-func (w *statusRecorder) Flush() {
-	if f, ok := w.ResponseWriter.(http.Flusher); ok {
-		f.Flush()
-	}
-}
-
-// Unwrap lets http.ResponseController reach the underlying writer.
-func (w *statusRecorder) Unwrap() http.ResponseWriter { return w.ResponseWriter }
-
-func (s *Server) instrument(route string, h http.HandlerFunc) http.HandlerFunc {
-	return func(w http.ResponseWriter, r *http.Request) {
-		start := time.Now()
-		rec := &statusRecorder{ResponseWriter: w}
-		defer func() {
-			status := rec.status
-			if v := recover(); v != nil {
-				if !errors.Is(asError(v), http.ErrAbortHandler) {
-					s.log.Error("handler panic", "panic", fmt.Sprint(v))
-				}
-				status = 0
-				defer panic(http.ErrAbortHandler)
-			}
-			s.metrics.requests.WithLabelValues(route, strconv.Itoa(status)).Inc()
-			s.metrics.duration.WithLabelValues(route).Observe(time.Since(start).Seconds())
-		}()
-		h(rec, r)
-	}
-}
-
-func asError(v any) error {
-	if err, ok := v.(error); ok {
-		return err
-	}
+	w.Header().Set("Content-Type", "text/plain; charset=utf-8")
+	w.Write([]byte("ready\n"))
 	return nil
 }
 
-// FromExec adapts the query engine to the server's interface.
-func FromExec(e *exec.Engine) Engine { return execEngine{e} }
-
-type execEngine struct{ e *exec.Engine }
-
-func (x execEngine) Query(ctx context.Context, text string) (Solutions, error) {
-	c, err := x.e.Query(ctx, text)
-	if err != nil {
-		return nil, err // not a nil *Cursor inside a non-nil interface
+// sparql is the SPARQL 1.1 Protocol route. A GET without a query gets the
+// service description (or the query page), which needs no token: it tells
+// nothing about the data.
+func (s *Server) sparql(w http.ResponseWriter, r *http.Request) error {
+	endpoint := s.endpointURL(r)
+	if (r.Method == http.MethodGet || r.Method == http.MethodHead) && !isQueryRequest(r) {
+		return s.describe(w, r, endpoint)
 	}
-	return c, nil
+	if err := s.auth.check(r); err != nil {
+		return err
+	}
+	op, err := s.readOperation(w, r, endpoint)
+	if err != nil {
+		return err
+	}
+	release, err := s.admission.acquire(r.Context())
+	if err != nil {
+		return err
+	}
+	defer release()
+	ctx, cancel := s.queryContext(r.Context(), op)
+	defer cancel()
+	start := time.Now()
+	a, err := s.currentEngine().Query(ctx, op.query)
+	if err != nil {
+		return s.failed(r.Context(), ctx, err)
+	}
+	f, err := format(op, r, a.Kind)
+	if err != nil {
+		a.Close()
+		return err
+	}
+	infoOf(r.Context()).format = f.Name()
+	n, err := s.writeAnswer(w, a, f)
+	a.Close()
+	d := time.Since(start)
+	s.metrics.queryDuration.WithLabelValues(a.Kind.String()).Observe(d.Seconds())
+	s.metrics.rows.WithLabelValues(a.Kind.String()).Add(float64(n))
+	if a.Stats != nil {
+		st := a.Stats()
+		s.metrics.sqlDuration.Observe(st.SQLDuration.Seconds())
+		s.metrics.residual.Add(float64(st.ResidualEvaluations))
+	}
+	if s.cfg.SlowQuery > 0 && d >= s.cfg.SlowQuery {
+		s.logSlow(r.Context(), op, a, d, n, err)
+	}
+	return s.failed(r.Context(), ctx, err)
 }
 
-func (x execEngine) Ready(ctx context.Context) error { return x.e.Ready(ctx) }
+// queryContext bounds a query by the server's time limit or the client's
+// shorter one.
+func (s *Server) queryContext(ctx context.Context, op *operation) (context.Context, context.CancelFunc) {
+	limit := s.cfg.Limits.QueryTimeout
+	if op.timeout > 0 && (limit <= 0 || op.timeout < limit) {
+		limit = op.timeout
+	}
+	if limit <= 0 {
+		return context.WithCancel(ctx)
+	}
+	return context.WithTimeout(ctx, limit)
+}
+
+// failed gives a query failure its kind from the state of the request's and
+// the query's contexts, when the engine did not give it one, and counts
+// timeouts.
+func (s *Server) failed(reqCtx, queryCtx context.Context, err error) error {
+	if err == nil {
+		return nil
+	}
+	var p *problem
+	if !errors.As(err, &p) && exec.KindOf(err) == exec.Internal {
+		switch {
+		case reqCtx.Err() != nil:
+			err = &exec.Error{Kind: exec.Canceled, Err: err}
+		case errors.Is(queryCtx.Err(), context.DeadlineExceeded):
+			err = &exec.Error{Kind: exec.Timeout, Err: err}
+		}
+	}
+	if exec.KindOf(err) == exec.Timeout {
+		s.metrics.timeouts.Inc()
+	}
+	return err
+}
+
+// Bounds on what the slow-query log copies of a query and its SQL.
+const slowLogText = 8 << 10
+
+// logSlow writes the slow-query log line: the query, the SQL it ran (with
+// placeholders, never the values), and what it cost.
+func (s *Server) logSlow(ctx context.Context, op *operation, a *Answer, d time.Duration, rows int64, err error) {
+	attrs := []slog.Attr{
+		slog.String("request_id", RequestID(ctx)),
+		slog.Float64("duration_ms", float64(d.Microseconds())/1000),
+		slog.Int64("rows", rows),
+		slog.String("kind", a.Kind.String()),
+		slog.String("query", clip(op.query.Text)),
+	}
+	if a.SQL != nil {
+		var stmts []string
+		for _, q := range a.SQL() {
+			stmts = append(stmts, clip(q))
+		}
+		attrs = append(attrs, slog.Any("sql", stmts))
+	}
+	if err != nil {
+		attrs = append(attrs, slog.String("err", oneLine(err.Error())))
+	}
+	s.log.LogAttrs(ctx, slog.LevelWarn, "slow query", attrs...)
+}
+
+func clip(s string) string {
+	if len(s) <= slowLogText {
+		return s
+	}
+	return s[:slowLogText] + "…"
+}
+
+// explain answers the explain route: how the engine would answer the query,
+// as JSON (an Explanation) or as plain text.
+func (s *Server) explain(w http.ResponseWriter, r *http.Request) error {
+	if err := s.auth.check(r); err != nil {
+		return err
+	}
+	op, err := s.readOperation(w, r, s.endpointURL(r))
+	if err != nil {
+		return err
+	}
+	ex, ok := s.currentEngine().(Explainer)
+	if !ok {
+		return &problem{status: http.StatusNotImplemented, msg: "this engine cannot explain queries"}
+	}
+	mt, ok := preferredMedia(strings.Join(r.Header.Values("Accept"), ","), []string{"application/json", "text/plain"})
+	if !ok {
+		return &problem{status: http.StatusNotAcceptable, msg: "an explanation is available as application/json or text/plain"}
+	}
+	ctx, cancel := s.queryContext(r.Context(), op)
+	defer cancel()
+	e, err := ex.Explain(ctx, op.query)
+	if err != nil {
+		return s.failed(r.Context(), ctx, err)
+	}
+	w.Header().Add("Vary", "Accept")
+	if mt == "text/plain" {
+		w.Header().Set("Content-Type", "text/plain; charset=utf-8")
+		_, err = fmt.Fprintf(w, "algebra:\n%s\n%s", indent(e.Algebra), e.Plan)
+		return err
+	}
+	w.Header().Set("Content-Type", "application/json")
+	return json.NewEncoder(w).Encode(e)
+}
+
+// indent indents every line of s by two spaces.
+func indent(s string) string {
+	s = strings.TrimRight(s, "\n")
+	return "  " + strings.ReplaceAll(s, "\n", "\n  ") + "\n"
+}
+
+// endpointURL is the URL the client asked for, without its query string: the
+// IRI the service description gives as sd:endpoint and the base IRI of
+// queries. Behind a trusted proxy the scheme, host and a path prefix come from
+// the X-Forwarded-* headers (the first value of each, which the proxy nearest
+// the client set).
+func (s *Server) endpointURL(r *http.Request) string {
+	scheme, host, prefix := "http", r.Host, ""
+	if r.TLS != nil {
+		scheme = "https"
+	}
+	if s.cfg.TrustForwarded {
+		first := func(name string) string {
+			v, _, _ := strings.Cut(r.Header.Get(name), ",")
+			return strings.TrimSpace(v)
+		}
+		if p := strings.ToLower(first("X-Forwarded-Proto")); p == "http" || p == "https" {
+			scheme = p
+		}
+		if h := first("X-Forwarded-Host"); h != "" {
+			host = h
+		}
+		prefix = strings.TrimRight(first("X-Forwarded-Prefix"), "/")
+		if prefix != "" && !strings.HasPrefix(prefix, "/") {
+			prefix = "/" + prefix
+		}
+	}
+	return scheme + "://" + host + prefix + r.URL.EscapedPath()
+}
+
+// Reload builds a new engine with Config.Reload and serves it from the next
+// query on; queries running on the old engine finish on it. When the build
+// fails the engine in service stays, and the error is logged, counted and
+// returned.
+func (s *Server) Reload(ctx context.Context) error {
+	if s.cfg.Reload == nil {
+		return errors.New("server: reloading is not configured")
+	}
+	e, err := s.cfg.Reload(ctx)
+	if err != nil {
+		s.metrics.reloads.WithLabelValues("failed").Inc()
+		s.log.Error("reload failed; the catalog in service stays", "err", err)
+		return err
+	}
+	s.engine.Store(&engineBox{e})
+	s.metrics.reloads.WithLabelValues("ok").Inc()
+	s.log.Info("reloaded the catalog")
+	return nil
+}
+
+// SetTokens replaces the bearer tokens; an empty set turns authentication off.
+func (s *Server) SetTokens(t *Tokens) { s.auth.tokens.Store(t) }

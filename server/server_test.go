@@ -1,179 +1,230 @@
 package server
 
 import (
+	"bytes"
 	"context"
-	"encoding/json"
+	"database/sql"
 	"errors"
 	"io"
 	"log/slog"
 	"net/http"
 	"net/http/httptest"
-	"net/url"
 	"strings"
+	"sync"
 	"testing"
+	"time"
 
 	"github.com/prometheus/client_golang/prometheus"
 
 	"veneer/catalog/rdf"
-	"veneer/rewrite/exec"
+	"veneer/server/results"
 )
 
-// fakeEngine answers every query with n rows of one variable, failing after
-// failAfter rows when failAfter >= 0, and records the query text it got.
+// fakeEngine answers with what its answer function returns, and records the
+// queries it was given.
 type fakeEngine struct {
-	n, failAfter int
-	got          string
-	ready        error
-	queryErr     error
+	mu     sync.Mutex
+	got    []Query
+	answer func(ctx context.Context, q Query) (*Answer, error)
+	ready  error
 }
 
-func (f *fakeEngine) Query(_ context.Context, text string) (Solutions, error) {
-	f.got = text
-	if f.queryErr != nil {
-		return nil, f.queryErr
-	}
-	return &fakeCursor{n: f.n, failAfter: f.failAfter}, nil
+func (f *fakeEngine) Query(ctx context.Context, q Query) (*Answer, error) {
+	f.mu.Lock()
+	f.got = append(f.got, q)
+	f.mu.Unlock()
+	return f.answer(ctx, q)
 }
 
 func (f *fakeEngine) Ready(context.Context) error { return f.ready }
 
+// last returns the last query the engine got.
+func (f *fakeEngine) last() Query {
+	f.mu.Lock()
+	defer f.mu.Unlock()
+	if len(f.got) == 0 {
+		return Query{}
+	}
+	return f.got[len(f.got)-1]
+}
+
+// explainingEngine is a fakeEngine that can explain and report pool stats.
+type explainingEngine struct{ *fakeEngine }
+
+func (explainingEngine) Explain(_ context.Context, q Query) (*Explanation, error) {
+	return &Explanation{Algebra: "(bgp " + q.Text + ")", Plan: "sql: SELECT 1\nin-process: nothing\n"}, nil
+}
+
+func (explainingEngine) PoolStats() map[string]sql.DBStats {
+	return map[string]sql.DBStats{"main": {MaxOpenConnections: 8, OpenConnections: 3, InUse: 1, Idle: 2, WaitCount: 5}}
+}
+
+// rowsAnswer answers n solutions of one variable ?x, "v1", "v2", …; after
+// failAfter solutions (when failAfter >= 0) the cursor fails. The cursor
+// stops with the context's error when the context ends.
+func rowsAnswer(n, failAfter int) func(ctx context.Context, q Query) (*Answer, error) {
+	return func(ctx context.Context, q Query) (*Answer, error) {
+		return &Answer{Kind: results.Solutions, Solutions: &fakeCursor{ctx: ctx, n: n, failAfter: failAfter}}, nil
+	}
+}
+
 type fakeCursor struct {
+	ctx             context.Context
 	n, failAfter, i int
+	delay           time.Duration // before each solution
 	err             error
+	sol             []rdf.Term
 }
 
 func (c *fakeCursor) Vars() []string { return []string{"x"} }
+
 func (c *fakeCursor) Next() bool {
+	if c.err != nil {
+		return false
+	}
+	if c.delay > 0 {
+		select {
+		case <-time.After(c.delay):
+		case <-c.ctx.Done():
+		}
+	}
+	if err := c.ctx.Err(); err != nil {
+		c.err = err
+		return false
+	}
 	if c.failAfter >= 0 && c.i >= c.failAfter {
-		c.err = errors.New("connection reset by database")
+		c.err = errors.New("connection reset by database at 10.1.2.3:5432")
+		return false
+	}
+	if c.i >= c.n {
 		return false
 	}
 	c.i++
-	return c.i <= c.n
+	// The same slice every time, as database/sql-style cursors do.
+	if c.sol == nil {
+		c.sol = make([]rdf.Term, 1)
+	}
+	c.sol[0] = rdf.NewString("v" + itoa(c.i))
+	return true
 }
-func (c *fakeCursor) Solution() []rdf.Term { return []rdf.Term{rdf.NewString("v")} }
+
+func (c *fakeCursor) Solution() []rdf.Term { return c.sol }
 func (c *fakeCursor) Err() error           { return c.err }
 func (c *fakeCursor) Close() error         { return nil }
 
-func newTestServer(t *testing.T, e Engine) *httptest.Server {
+func itoa(i int) string {
+	var b []byte
+	for {
+		b = append([]byte{byte('0' + i%10)}, b...)
+		if i /= 10; i == 0 {
+			return string(b)
+		}
+	}
+}
+
+// blockingAnswer waits until the context ends or release is closed, then
+// answers one solution (or the context's error).
+func blockingAnswer(started chan<- struct{}, release <-chan struct{}) func(ctx context.Context, q Query) (*Answer, error) {
+	return func(ctx context.Context, q Query) (*Answer, error) {
+		if started != nil {
+			started <- struct{}{}
+		}
+		select {
+		case <-release:
+		case <-ctx.Done():
+			return nil, ctx.Err()
+		}
+		return rowsAnswer(1, -1)(ctx, q)
+	}
+}
+
+// env is a server under test with the places it writes to.
+type env struct {
+	srv *Server
+	ts  *httptest.Server
+	reg *prometheus.Registry
+	log *bytes.Buffer
+	mu  *sync.Mutex
+}
+
+// logs returns what the server logged so far.
+func (e *env) logs() string {
+	e.mu.Lock()
+	defer e.mu.Unlock()
+	return e.log.String()
+}
+
+// lockedBuffer lets the handlers' goroutines log into one buffer.
+type lockedBuffer struct {
+	mu  *sync.Mutex
+	buf *bytes.Buffer
+}
+
+func (b lockedBuffer) Write(p []byte) (int, error) {
+	b.mu.Lock()
+	defer b.mu.Unlock()
+	return b.buf.Write(p)
+}
+
+func newEnv(t *testing.T, cfg Config, e Engine) *env {
+	t.Helper()
 	reg := prometheus.NewRegistry()
-	s := New(DefaultConfig(), e, slog.New(slog.NewTextHandler(io.Discard, nil)), reg, reg)
+	buf, mu := &bytes.Buffer{}, &sync.Mutex{}
+	log := slog.New(slog.NewJSONHandler(lockedBuffer{mu, buf}, &slog.HandlerOptions{Level: slog.LevelDebug}))
+	s, err := New(cfg, e, log, reg, reg)
+	if err != nil {
+		t.Fatal(err)
+	}
 	ts := httptest.NewServer(s.Handler())
 	t.Cleanup(ts.Close)
-	return ts
+	return &env{srv: s, ts: ts, reg: reg, log: buf, mu: mu}
 }
 
-func TestProtocolRequestForms(t *testing.T) {
-	// SPARQL 1.1 Protocol §2.1.1–2.1.3: query via GET, POST form-encoded and POST
-	// directly in the body.
-	const q = "SELECT ?x WHERE { ?x ?p ?o }"
-	e := &fakeEngine{n: 2, failAfter: -1}
-	ts := newTestServer(t, e)
-	requests := map[string]func() (*http.Response, error){
-		"GET": func() (*http.Response, error) { return http.Get(ts.URL + "/sparql?query=" + url.QueryEscape(q)) },
-		"POST form": func() (*http.Response, error) {
-			return http.PostForm(ts.URL+"/sparql", url.Values{"query": {q}})
-		},
-		"POST direct": func() (*http.Response, error) {
-			return http.Post(ts.URL+"/sparql", "application/sparql-query", strings.NewReader(q))
-		},
-	}
-	for name, do := range requests {
-		e.got = ""
-		resp, err := do()
-		if err != nil {
-			t.Fatal(err)
-		}
-		body, _ := io.ReadAll(resp.Body)
-		resp.Body.Close()
-		if resp.StatusCode != 200 || e.got != q {
-			t.Errorf("%s: status %d, engine got %q; body %s", name, resp.StatusCode, e.got, body)
-		}
-		if !strings.Contains(string(body), `"vars":["x"]`) {
-			t.Errorf("%s: body %s", name, body)
-		}
-	}
+// response is what a test request got.
+type response struct {
+	status int
+	header http.Header
+	body   string
+	err    error // reading the body
 }
 
-func TestProtocolErrors(t *testing.T) {
-	e := &fakeEngine{failAfter: -1, queryErr: &exec.Error{Kind: exec.BadQuery, Err: errors.New("line 1, column 9: expected a variable")}}
-	ts := newTestServer(t, e)
-	cases := []struct {
-		name   string
-		do     func() (*http.Response, error)
-		status int
-		body   string
-	}{
-		{"syntax error", func() (*http.Response, error) { return http.Get(ts.URL + "/sparql?query=SELECT") }, 400, "line 1, column 9"},
-		{"no query", func() (*http.Response, error) { return http.Get(ts.URL + "/sparql?other=1") }, 400, "query"},
-		// SPARQL 1.1 Protocol §2.1.4: two query parameters are an error.
-		{"two queries", func() (*http.Response, error) { return http.Get(ts.URL + "/sparql?query=a&query=b") }, 400, "exactly one"},
-		{"unknown body type", func() (*http.Response, error) {
-			return http.Post(ts.URL+"/sparql", "text/plain", strings.NewReader("SELECT"))
-		}, 415, "Content-Type"},
-		{"PUT", func() (*http.Response, error) {
-			req, _ := http.NewRequest(http.MethodPut, ts.URL+"/sparql", nil)
-			return http.DefaultClient.Do(req)
-		}, 405, ""},
+// do sends a request; headers alternate names and values.
+func (e *env) do(t *testing.T, method, path, body string, headers ...string) response {
+	t.Helper()
+	var rd io.Reader
+	if body != "" {
+		rd = strings.NewReader(body)
 	}
-	for _, c := range cases {
-		resp, err := c.do()
-		if err != nil {
-			t.Fatal(err)
-		}
-		body, _ := io.ReadAll(resp.Body)
-		resp.Body.Close()
-		if resp.StatusCode != c.status || !strings.Contains(string(body), c.body) {
-			t.Errorf("%s: status %d body %q; want %d containing %q", c.name, resp.StatusCode, body, c.status, c.body)
-		}
+	req, err := http.NewRequest(method, e.ts.URL+path, rd)
+	if err != nil {
+		t.Fatal(err)
 	}
-}
-
-func TestFailureAfterStreamingAbortsTheBody(t *testing.T) {
-	// 5000 rows flush part of the document before the cursor fails: the client must
-	// see a broken transfer, never a well-formed but truncated result.
-	ts := newTestServer(t, &fakeEngine{n: 10000, failAfter: 5000})
-	resp, err := http.Get(ts.URL + "/sparql?query=x")
+	for i := 0; i+1 < len(headers); i += 2 {
+		if strings.EqualFold(headers[i], "Host") {
+			req.Host = headers[i+1]
+			continue
+		}
+		req.Header.Add(headers[i], headers[i+1])
+	}
+	resp, err := e.ts.Client().Do(req)
 	if err != nil {
 		t.Fatal(err)
 	}
 	defer resp.Body.Close()
-	body, err := io.ReadAll(resp.Body)
-	if err == nil {
-		t.Fatalf("read %d bytes without error; the body should have been aborted", len(body))
-	}
-	if json.Valid(body) {
-		t.Errorf("aborted body is a complete JSON document")
-	}
-	m, _ := http.Get(ts.URL + "/metrics")
-	mb, _ := io.ReadAll(m.Body)
-	m.Body.Close()
-	if !strings.Contains(string(mb), "veneer_stream_failures_total 1") {
-		t.Errorf("stream failure not counted:\n%s", mb)
-	}
+	b, rerr := io.ReadAll(resp.Body)
+	return response{status: resp.StatusCode, header: resp.Header, body: string(b), err: rerr}
 }
 
-func TestHealthAndReadiness(t *testing.T) {
-	e := &fakeEngine{failAfter: -1}
-	ts := newTestServer(t, e)
-	for path, want := range map[string]int{"/healthz": 200, "/readyz": 200} {
-		resp, err := http.Get(ts.URL + path)
-		if err != nil {
-			t.Fatal(err)
-		}
-		resp.Body.Close()
-		if resp.StatusCode != want {
-			t.Errorf("%s: %d, want %d", path, resp.StatusCode, want)
+// metric returns the exposition lines of the metrics whose name starts with
+// name.
+func (e *env) metric(t *testing.T, name string) string {
+	t.Helper()
+	r := e.do(t, "GET", "/metrics", "")
+	var lines []string
+	for _, l := range strings.Split(r.body, "\n") {
+		if strings.HasPrefix(l, name) {
+			lines = append(lines, l)
 		}
 	}
-	e.ready = errors.New("dial tcp: connection refused")
-	resp, err := http.Get(ts.URL + "/readyz")
-	if err != nil {
-		t.Fatal(err)
-	}
-	body, _ := io.ReadAll(resp.Body)
-	resp.Body.Close()
-	if resp.StatusCode != 503 || strings.Contains(string(body), "refused") {
-		t.Errorf("/readyz with a failing source: %d %q; want 503 without the internal reason", resp.StatusCode, body)
-	}
+	return strings.Join(lines, "\n")
 }

@@ -91,7 +91,8 @@ func (s *Server) describe(w http.ResponseWriter, r *http.Request, endpoint strin
 	info := infoOf(r.Context())
 	if mt == mediaHTML {
 		info.format = "html"
-		return s.page(w, r, endpoint)
+		s.console.ServePage(w, r)
+		return nil
 	}
 	triples := serviceDescription(endpoint)
 	var b bytes.Buffer

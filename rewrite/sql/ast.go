@@ -186,6 +186,12 @@ func MapColumns(e Expr, f func(ColumnRef) ColumnRef) Expr {
 		return x
 	case Collate:
 		return Collate{X: MapColumns(x.X, f)}
+	case In:
+		list := make([]Expr, len(x.List))
+		for i, a := range x.List {
+			list[i] = MapColumns(a, f)
+		}
+		return In{X: MapColumns(x.X, f), List: list, Exact: x.Exact}
 	case Func:
 		args := make([]Expr, len(x.Args))
 		for i, a := range x.Args {
@@ -196,3 +202,21 @@ func MapColumns(e Expr, f func(ColumnRef) ColumnRef) Expr {
 	// Param, Int, Null, and Exists (whose sub-query is closed over its own FROM).
 	return e
 }
+
+// Agg is an aggregate call: Name(DISTINCT Arg), or COUNT(*) when Arg is nil.
+type Agg struct {
+	Name     string
+	Distinct bool
+	Arg      Expr
+}
+
+func (Agg) expr() {}
+
+// In is X IN (List...); Exact compares strings by code point, as Binary's does.
+type In struct {
+	X     Expr
+	List  []Expr
+	Exact bool
+}
+
+func (In) expr() {}

@@ -211,6 +211,26 @@ func (p *printer) expr(e Expr) {
 		p.w(" ", e.Op, " ")
 		p.expr(e.R)
 		p.w(")")
+	case In:
+		p.w("(")
+		if e.Exact && p.dialect == source.MySQL {
+			p.w("BINARY ")
+		}
+		p.expr(e.X)
+		p.w(" IN (")
+		p.list(e.List)
+		p.w("))")
+	case Agg:
+		p.w(e.Name, "(")
+		if e.Arg == nil {
+			p.w("*")
+		} else {
+			if e.Distinct {
+				p.w("DISTINCT ")
+			}
+			p.expr(e.Arg)
+		}
+		p.w(")")
 	case Collate:
 		switch p.dialect {
 		case source.Postgres:

@@ -51,7 +51,7 @@ func main() {
 var errUsage = errors.New("usage")
 
 func run(ctx context.Context, args []string, stdout, stderr io.Writer) int {
-	suite, opt, verbose, err := parseArgs(args, stderr)
+	suite, opt, verbose, err := parseArgs(ctx, args, stderr)
 	if err != nil {
 		if !errors.Is(err, errUsage) {
 			fmt.Fprintln(stderr, "w3c:", err)
@@ -82,7 +82,7 @@ func run(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 
 // parseArgs reads "SUITE [flags]" or "[flags] SUITE" and opens the database
 // server the run needs.
-func parseArgs(args []string, stderr io.Writer) (conformance.Suite, conformance.Options, bool, error) {
+func parseArgs(ctx context.Context, args []string, stderr io.Writer) (conformance.Suite, conformance.Options, bool, error) {
 	var opt conformance.Options
 	fs := flag.NewFlagSet("w3c", flag.ContinueOnError)
 	fs.SetOutput(stderr)
@@ -139,7 +139,7 @@ func parseArgs(args []string, stderr io.Writer) (conformance.Suite, conformance.
 				return nil, opt, false, fmt.Errorf("--db %s needs the server's DSN in %s", d, env)
 			}
 		}
-		if opt.Server, err = conformance.OpenServer(context.Background(), d, dsn); err != nil {
+		if opt.Server, err = conformance.OpenServer(ctx, d, dsn); err != nil {
 			return nil, opt, false, err
 		}
 	}

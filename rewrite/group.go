@@ -1,0 +1,149 @@
+package rewrite
+
+import (
+	"fmt"
+
+	"veneer/catalog"
+	"veneer/catalog/rdf"
+	"veneer/catalog/source"
+	"veneer/rewrite/algebra"
+	"veneer/rewrite/sql"
+)
+
+// group expresses GROUP BY with aggregates in SQL when every key is a variable
+// with one shape and every aggregate has an SQL twin with SPARQL's result: COUNT
+// of solutions or of a one-column variable (DISTINCT too), and SUM, MIN, MAX of
+// integer or decimal columns. AVG, SAMPLE, GROUP_CONCAT and the rest stay
+// in-process: their SQL forms round or order differently. nil when SQL cannot.
+func (q *query) group(r *rel, n algebra.Group) *rel {
+	r, ok := q.deduped(r)
+	if !ok {
+		return nil
+	}
+	if len(r.branches) != 1 {
+		if r, ok = q.derived(r, modifiers{limit: -1}); !ok {
+			return nil
+		}
+	}
+	b := r.branches[0]
+	sel := &sql.Select{From: b.from, Where: sql.And(uniqueConds(b.where)...)}
+	alias := q.alias("g")
+	out := &branch{from: []sql.From{&sql.Derived{Stmt: sel, Alias: alias}}, vars: map[algebra.Var]binding{}}
+	res := &rel{branches: []*branch{out}}
+	col := func(e sql.Expr, t source.Column) sql.Expr {
+		name := fmt.Sprintf("c%d", len(sel.Columns))
+		sel.Columns = append(sel.Columns, sql.Column{Expr: e, Alias: name})
+		return sql.ColumnRef{Table: alias, Column: catalog.Ident{Name: name, Quoted: true}}
+	}
+	if len(b.checks) > 0 {
+		return nil
+	}
+	for _, k := range n.Keys {
+		v, ok := k.Expr.(algebra.Var)
+		if !ok || (k.Var != "" && k.Var != v) {
+			return nil
+		}
+		bd, bound := b.vars[v]
+		if !bound {
+			continue // an unbound key groups everything together, and stays unbound
+		}
+		if len(bd.alts) != 1 {
+			return nil
+		}
+		o := bd.alts[0]
+		exprs, types := carriers(o)
+		no := occurrence{m: o.m}
+		for i, e := range exprs {
+			sel.GroupBy = append(sel.GroupBy, e)
+			ref := col(e, types[i])
+			t := types[i]
+			t.NotNull = false
+			if o.m.Kind == catalog.Constant {
+				no.marker = ref
+				continue
+			}
+			no.exprs = append(no.exprs, ref)
+			no.cols = append(no.cols, t)
+		}
+		out.vars[v] = binding{alts: []occurrence{no}, nullable: bd.nullable}
+		res.addVar(v)
+	}
+	for _, a := range n.Aggs {
+		e, t, ok := q.aggregate(b, a.Agg, len(n.Keys) == 0)
+		if !ok {
+			return nil
+		}
+		ref := col(e, t)
+		m := catalog.TermMap{Kind: catalog.Column, Column: "value", TermType: rdf.KindLiteral}
+		// MIN and MAX of an empty group are errors, so unbound: NULL in SQL too.
+		out.vars[a.Var] = binding{alts: []occurrence{{m: m, exprs: []sql.Expr{ref}, cols: []source.Column{t}}}, nullable: true}
+		res.addVar(a.Var)
+	}
+	if len(sel.Columns) == 0 {
+		sel.Columns = []sql.Column{{Expr: sql.Int(1), Alias: "c0"}}
+	}
+	return res
+}
+
+// aggregate translates one aggregate over the branch; whole says there is no
+// GROUP BY, so the one group may be empty.
+func (q *query) aggregate(b *branch, a algebra.Aggregate, whole bool) (sql.Expr, source.Column, bool) {
+	intCol := source.Column{DatabaseType: "BIGINT", Kind: source.TypeInteger}
+	if a.Name == "COUNT" {
+		if a.Arg == nil {
+			if a.Distinct {
+				return nil, source.Column{}, false
+			}
+			return sql.Agg{Name: "COUNT"}, intCol, true
+		}
+		v, ok := a.Arg.(algebra.Var)
+		if !ok {
+			return nil, source.Column{}, false
+		}
+		bd, bound := b.vars[v]
+		if !bound {
+			return sql.Int(0), intCol, true
+		}
+		if len(bd.alts) != 1 {
+			return nil, source.Column{}, false
+		}
+		o := bd.alts[0]
+		switch {
+		case len(o.exprs) == 1:
+			return sql.Agg{Name: "COUNT", Distinct: a.Distinct, Arg: o.exprs[0]}, intCol, true
+		case !bd.nullable && !a.Distinct:
+			return sql.Agg{Name: "COUNT"}, intCol, true
+		}
+		return nil, source.Column{}, false
+	}
+	if a.Name != "SUM" && a.Name != "MIN" && a.Name != "MAX" {
+		return nil, source.Column{}, false
+	}
+	v, ok := a.Arg.(algebra.Var)
+	if !ok {
+		return nil, source.Column{}, false
+	}
+	bd, bound := b.vars[v]
+	if !bound || !bd.solid() {
+		// An unbound value makes SPARQL's SUM, MIN and MAX an error, while SQL
+		// skips NULLs: only always-bound variables have an SQL twin.
+		return nil, source.Column{}, false
+	}
+	e, cl := q.valueSQL(b, v)
+	o := bd.alts[0]
+	if cl != classNumeric || (o.cols[0].Kind != source.TypeInteger && o.cols[0].Kind != source.TypeDecimal) {
+		return nil, source.Column{}, false
+	}
+	t := source.Column{DatabaseType: o.cols[0].DatabaseType, Kind: o.cols[0].Kind}
+	agg := sql.Expr(sql.Agg{Name: a.Name, Distinct: a.Distinct, Arg: e})
+	if a.Name == "SUM" {
+		if pl := q.pl; pl.dialect == source.Postgres && t.Kind == source.TypeInteger {
+			t.DatabaseType = "NUMERIC" // SUM(bigint) is numeric in PostgreSQL
+		}
+		if whole {
+			// SPARQL's sum of no values is 0; SQL's is NULL.
+			agg = sql.Func{Name: "COALESCE", Args: []sql.Expr{agg, sql.Int(0)}}
+		}
+	}
+	return agg, t, true
+}
