@@ -36,6 +36,7 @@ func (q *query) relation(n algebra.Node, graph algebra.Item) (*rel, modifiers, e
 		if r == nil || err != nil || !plain(mod) {
 			return nil, none, err
 		}
+		q.graph = graph
 		if residual := q.pushFilters(r, n.Exprs); len(residual) > 0 {
 			return nil, none, nil
 		}
@@ -72,8 +73,13 @@ func (q *query) relation(n algebra.Node, graph algebra.Item) (*rel, modifiers, e
 		if l == nil || err != nil {
 			return nil, none, err
 		}
-		u := q.union(l, r)
-		return u, none, nil
+		return q.union(l, r), none, nil
+	case algebra.Minus:
+		l, r, err := q.relations(n.Left, n.Right, graph)
+		if l == nil || err != nil {
+			return nil, none, err
+		}
+		return q.minus(l, r), none, nil
 	case algebra.Extend:
 		r, mod, err := q.relation(n.Input, graph)
 		if r == nil || err != nil || !plain(mod) {
@@ -344,7 +350,7 @@ func (q *query) leftJoin(l, r *rel, expr algebra.Expr) *rel {
 		for v, rb := range db.vars {
 			ab, shared := a.vars[v]
 			if !shared {
-				nb.vars[v] = binding{alts: rb.alts, nullable: true}
+				nb.vars[v] = binding{alts: nullAble(rb.alts), nullable: true}
 				continue
 			}
 			if !ab.solid() {
@@ -375,6 +381,7 @@ func (q *query) leftJoin(l, r *rel, expr algebra.Expr) *rel {
 			on = append(on, or(options...))
 		}
 		if expr != nil {
+			// The filter reads both sides' variables, as nb now binds them.
 			cond, ok := q.exprSQL(nb, expr)
 			if !ok {
 				return nil
@@ -518,4 +525,18 @@ func rowsCondition(rows [][]sql.Expr) sql.Expr {
 		opts = append(opts, c)
 	}
 	return or(opts...)
+}
+
+// nullAble copies occurrences read through an outer join: their columns may be
+// NULL whatever the source's constraints say.
+func nullAble(alts []occurrence) []occurrence {
+	out := make([]occurrence, len(alts))
+	for i, o := range alts {
+		o.cols = append([]source.Column(nil), o.cols...)
+		for j := range o.cols {
+			o.cols[j].NotNull = false
+		}
+		out[i] = o
+	}
+	return out
 }

@@ -62,6 +62,9 @@ const (
 // exprSQL translates a boolean SPARQL expression into an SQL condition over the
 // branch, when the translation keeps SPARQL's meaning.
 func (q *query) exprSQL(b *branch, e algebra.Expr) (sql.Expr, bool) {
+	if ex, ok := e.(algebra.Exists); ok {
+		return q.existsSQL(b, ex)
+	}
 	c, ok := e.(algebra.Call)
 	if !ok || c.IRI != "" {
 		return nil, false

@@ -112,6 +112,9 @@ func (r *rel) addVar(v algebra.Var) {
 type query struct {
 	pl  *Planner
 	seq int
+	// graph is the graph context of the pattern being planned, for the patterns
+	// that expressions contain (EXISTS).
+	graph algebra.Item
 }
 
 func (q *query) alias(prefix string) string {
@@ -366,6 +369,9 @@ func (q *query) derived(r *rel, mod modifiers) (*rel, bool) {
 	out := &rel{branches: []*branch{b}}
 	for _, s := range c.slots {
 		var bd binding
+		// The columns of a variable every branch binds with one shape keep the
+		// NOT NULL of their source; other shapes' branches fill columns with NULL.
+		keepNotNull := len(s.Builders) == 1 && !q.mayBeUnbound(r, s.Var)
 		for _, bl := range s.Builders {
 			o := occurrence{m: bl.Map}
 			for _, col := range bl.Cols {
@@ -374,10 +380,8 @@ func (q *query) derived(r *rel, mod modifiers) (*rel, bool) {
 					o.marker = ref
 					continue
 				}
-				// A derived column may be NULL even when its source column is not:
-				// union branches of other shapes fill it with NULL.
 				t := c.types[col]
-				t.NotNull = false
+				t.NotNull = t.NotNull && keepNotNull
 				o.exprs = append(o.exprs, ref)
 				o.cols = append(o.cols, t)
 			}

@@ -9,6 +9,7 @@ import (
 	"log/slog"
 	"net/http"
 	"net/http/httptest"
+	"strconv"
 	"strings"
 	"sync"
 	"testing"
@@ -104,23 +105,13 @@ func (c *fakeCursor) Next() bool {
 	if c.sol == nil {
 		c.sol = make([]rdf.Term, 1)
 	}
-	c.sol[0] = rdf.NewString("v" + itoa(c.i))
+	c.sol[0] = rdf.NewString("v" + strconv.Itoa(c.i))
 	return true
 }
 
 func (c *fakeCursor) Solution() []rdf.Term { return c.sol }
 func (c *fakeCursor) Err() error           { return c.err }
 func (c *fakeCursor) Close() error         { return nil }
-
-func itoa(i int) string {
-	var b []byte
-	for {
-		b = append([]byte{byte('0' + i%10)}, b...)
-		if i /= 10; i == 0 {
-			return string(b)
-		}
-	}
-}
 
 // blockingAnswer waits until the context ends or release is closed, then
 // answers one solution (or the context's error).
@@ -227,4 +218,16 @@ func (e *env) metric(t *testing.T, name string) string {
 		}
 	}
 	return strings.Join(lines, "\n")
+}
+
+// status GETs path and returns the status, or -1; unlike do it may be called
+// from any goroutine.
+func (e *env) status(path string) int {
+	resp, err := e.ts.Client().Get(e.ts.URL + path)
+	if err != nil {
+		return -1
+	}
+	io.Copy(io.Discard, resp.Body)
+	resp.Body.Close()
+	return resp.StatusCode
 }

@@ -1,0 +1,145 @@
+package server
+
+import (
+	"context"
+	"net/http"
+	"strings"
+	"sync"
+	"testing"
+	"time"
+)
+
+func TestConcurrencyLimitAndQueue(t *testing.T) {
+	// Two slots and a queue of one: two queries run, a third waits, a fourth
+	// is refused at once with 503 and Retry-After.
+	started, release := make(chan struct{}, 8), make(chan struct{})
+	cfg := DefaultConfig()
+	cfg.Limits.MaxConcurrent, cfg.Limits.MaxQueued, cfg.Limits.QueueTimeout = 2, 1, time.Minute
+	env := newEnv(t, cfg, &fakeEngine{answer: blockingAnswer(started, release)})
+	var wg sync.WaitGroup
+	statuses := make([]int, 3)
+	for i := range statuses {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			statuses[i] = env.status("/sparql?query=q")
+		}()
+	}
+	<-started
+	<-started
+	waitFor(t, func() bool { return env.metric(t, "veneer_queries_queued") == "veneer_queries_queued 1" })
+	if m := env.metric(t, "veneer_queries_in_flight"); m != "veneer_queries_in_flight 2" {
+		t.Errorf("in flight: %q", m)
+	}
+	start := time.Now()
+	r := env.do(t, "GET", "/sparql?query=q", "")
+	if r.status != http.StatusServiceUnavailable || r.header.Get("Retry-After") != "1" || !strings.Contains(r.body, "limit of 2 running and 1 waiting") {
+		t.Errorf("fourth query: %d Retry-After %q %q", r.status, r.header.Get("Retry-After"), r.body)
+	}
+	// Not a timed assertion: the refusal must not have waited for a slot,
+	// which the blocked queries hold until release.
+	if d := time.Since(start); d > 30*time.Second {
+		t.Errorf("the refusal took %v", d)
+	}
+	close(release)
+	wg.Wait()
+	for i, s := range statuses {
+		if s != 200 {
+			t.Errorf("query %d: status %d, want 200 (it ran or waited its turn)", i, s)
+		}
+	}
+	if m := env.metric(t, `veneer_queries_rejected_total{reason="queue_full"}`); !strings.HasSuffix(m, " 1") {
+		t.Errorf("rejection not counted: %q", m)
+	}
+}
+
+func TestQueueTimeout(t *testing.T) {
+	started, release := make(chan struct{}, 1), make(chan struct{})
+	defer close(release)
+	cfg := DefaultConfig()
+	cfg.Limits.MaxConcurrent, cfg.Limits.MaxQueued, cfg.Limits.QueueTimeout = 1, 4, 50*time.Millisecond
+	env := newEnv(t, cfg, &fakeEngine{answer: blockingAnswer(started, release)})
+	go env.status("/sparql?query=q")
+	<-started
+	r := env.do(t, "GET", "/sparql?query=q", "")
+	if r.status != http.StatusServiceUnavailable || r.header.Get("Retry-After") == "" || !strings.Contains(r.body, "waited 50ms") {
+		t.Errorf("queued query: %d %q", r.status, r.body)
+	}
+	if m := env.metric(t, `veneer_queries_rejected_total{reason="queue_timeout"}`); !strings.HasSuffix(m, " 1") {
+		t.Errorf("rejection not counted: %q", m)
+	}
+}
+
+func TestQueryTimeout(t *testing.T) {
+	// The client asks for 50 ms; the engine blocks until its context ends.
+	var deadline time.Time
+	e := &fakeEngine{answer: func(ctx context.Context, q Query) (*Answer, error) {
+		deadline, _ = ctx.Deadline()
+		return blockingAnswer(nil, nil)(ctx, q)
+	}}
+	cfg := DefaultConfig()
+	cfg.Limits.QueryTimeout = time.Minute
+	env := newEnv(t, cfg, e)
+	r := env.do(t, "GET", "/sparql?query=q&timeout=0.05", "")
+	if r.status != http.StatusServiceUnavailable || !strings.Contains(r.body, "time limit") {
+		t.Errorf("status %d %q; want 503 naming the time limit", r.status, r.body)
+	}
+	if m := env.metric(t, "veneer_query_timeouts_total"); m != "veneer_query_timeouts_total 1" {
+		t.Errorf("timeout not counted: %q", m)
+	}
+	// A client cannot ask for more than the server's limit.
+	release := make(chan struct{})
+	close(release)
+	e.answer = func(ctx context.Context, q Query) (*Answer, error) {
+		deadline, _ = ctx.Deadline()
+		return blockingAnswer(nil, release)(ctx, q)
+	}
+	before := time.Now()
+	if r := env.do(t, "GET", "/sparql?query=q&timeout=3600", ""); r.status != 200 {
+		t.Fatalf("status %d", r.status)
+	}
+	// The client's hour would put the deadline an hour away; the server's
+	// limit puts it one minute (and the time to get there) away.
+	if d := deadline.Sub(before); d < time.Minute || d > 2*time.Minute {
+		t.Errorf("deadline %v after the request; want the server's one-minute limit", d)
+	}
+}
+
+func TestClientGoneCancelsTheQuery(t *testing.T) {
+	canceled := make(chan error, 1)
+	started := make(chan struct{}, 1)
+	e := &fakeEngine{answer: func(ctx context.Context, q Query) (*Answer, error) {
+		started <- struct{}{}
+		<-ctx.Done()
+		canceled <- ctx.Err()
+		return nil, ctx.Err()
+	}}
+	env := newEnv(t, DefaultConfig(), e)
+	ctx, cancel := context.WithCancel(context.Background())
+	req, _ := http.NewRequestWithContext(ctx, "GET", env.ts.URL+"/sparql?query=q", nil)
+	go func() {
+		<-started
+		cancel()
+	}()
+	if _, err := env.ts.Client().Do(req); err == nil {
+		t.Fatal("the request succeeded")
+	}
+	select {
+	case err := <-canceled:
+		if err != context.Canceled {
+			t.Errorf("the engine's context ended with %v, want context.Canceled", err)
+		}
+	case <-time.After(30 * time.Second):
+		t.Fatal("the engine's context was not canceled when the client went away")
+	}
+}
+
+// waitFor polls cond until it holds, failing the test after 30 s.
+func waitFor(t *testing.T, cond func() bool) {
+	t.Helper()
+	for deadline := time.Now().Add(30 * time.Second); !cond(); time.Sleep(5 * time.Millisecond) {
+		if time.Now().After(deadline) {
+			t.Fatal("condition not reached in 30s")
+		}
+	}
+}
