@@ -31,6 +31,9 @@ func (q *query) relation(n algebra.Node, graph algebra.Item) (*rel, modifiers, e
 		return r, none, nil
 	case algebra.Graph:
 		return q.relation(n.Input, n.Name)
+	case algebra.PathPattern:
+		r, err := q.pathPattern(n, graph)
+		return r, none, err
 	case algebra.Filter:
 		r, mod, err := q.relation(n.Input, graph)
 		if r == nil || err != nil || !plain(mod) {
@@ -228,6 +231,7 @@ func (q *query) join(l, r *rel) (*rel, error) {
 				return nil, nil
 			}
 			if compatible {
+				q.eliminateSelfJoins(nb)
 				out.branches = append(out.branches, nb)
 			}
 		}

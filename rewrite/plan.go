@@ -225,7 +225,7 @@ func (q *query) op(n algebra.Node, graph algebra.Item) (Op, error) {
 		}
 		return &Slice{Input: in, Offset: n.Offset, Limit: n.Limit}, nil
 	case algebra.PathPattern:
-		return nil, &Unsupported{What: "property paths with *, + or ?"}
+		return nil, &Unsupported{What: "this property path: its two ends are built by different IRI shapes"}
 	case algebra.Service:
 		return nil, &Unsupported{What: "SERVICE"}
 	}

@@ -316,7 +316,7 @@ func (s *Server) explain(w http.ResponseWriter, r *http.Request) error {
 	w.Header().Add("Vary", "Accept")
 	if mt == "text/plain" {
 		w.Header().Set("Content-Type", "text/plain; charset=utf-8")
-		_, err = fmt.Fprintf(w, "algebra:\n%s\n%s", indent(e.Algebra), e.Plan)
+		_, err = fmt.Fprintf(w, "algebra:\n%s%s", indent(e.Algebra), e.Plan)
 		return err
 	}
 	w.Header().Set("Content-Type", "application/json")

@@ -220,3 +220,15 @@ type In struct {
 }
 
 func (In) expr() {}
+
+// Recursive is a FROM item computing a recursive common table expression:
+// (WITH RECURSIVE Name(Columns) AS (Anchor UNION Step) SELECT * FROM Name) Alias.
+// Step reads Name as a table; UNION (not UNION ALL) ends the recursion on cycles.
+type Recursive struct {
+	Name         string
+	Columns      []string
+	Anchor, Step Stmt
+	Alias        string
+}
+
+func (*Recursive) from() {}

@@ -161,6 +161,19 @@ func (p *printer) from(f From) {
 			p.w(f.Query)
 		}
 		p.w(") ", p.quote(f.Alias))
+	case *Recursive:
+		p.w("(WITH RECURSIVE ", p.quote(f.Name), "(")
+		for i, c := range f.Columns {
+			if i > 0 {
+				p.w(", ")
+			}
+			p.w(p.quote(c))
+		}
+		p.w(") AS (")
+		p.stmt(f.Anchor)
+		p.w(" UNION ")
+		p.stmt(f.Step)
+		p.w(") SELECT * FROM ", p.quote(f.Name), ") ", p.quote(f.Alias))
 	case *LeftJoin:
 		p.w(" LEFT JOIN ")
 		p.from(f.Right)

@@ -1,0 +1,150 @@
+package exec
+
+import (
+	"context"
+	"fmt"
+	"math/rand/v2"
+	"net/url"
+	"strconv"
+	"time"
+
+	"veneer/catalog/rdf"
+	"veneer/catalog/source"
+	"veneer/rewrite"
+	"veneer/rewrite/algebra"
+)
+
+// DefaultMaxBuffered is the default of Options.MaxBuffered.
+const DefaultMaxBuffered = 1 << 20
+
+// Options tune how a plan runs. The zero value is ready to use.
+type Options struct {
+	// Base is the base IRI that IRI() and URI() resolve relative strings against
+	// (§17.4.2.8); without one, a relative string is an expression error.
+	Base string
+	// MaxBuffered bounds the solutions (or, for CONSTRUCT and DESCRIBE, triples)
+	// that one in-process operator may hold in memory: the materialised side of
+	// a join, a sort, the groups of a grouping, the seen set of DISTINCT. A query
+	// that needs more fails with a TooLarge error. Zero means
+	// DefaultMaxBuffered.
+	MaxBuffered int
+	// Now fixes the value of NOW(); the zero time means the moment the run
+	// starts.
+	Now time.Time
+}
+
+// patternPlanner plans the graph patterns that evaluation meets on the way: an
+// EXISTS pattern with a solution substituted in, and the description of a
+// DESCRIBE resource. *rewrite.Planner is the one veneer uses.
+type patternPlanner interface {
+	PlanPattern(n algebra.Node) (rewrite.Op, error)
+}
+
+// run is the state one query's evaluation shares: where its SQL goes, the
+// values that must stay the same across the query (NOW, the blank node
+// labels), and the residual evaluation count.
+type run struct {
+	ctx     context.Context
+	src     source.Source
+	planner patternPlanner
+	limit   int
+	base    *url.URL
+	now     rdf.Literal
+	rand    *rand.Rand
+
+	blanks int64 // labels handed out so far
+	// BNODE(str) scope: the labels given to strings while one solution is
+	// evaluated (§17.4.2.9).
+	scope       int64
+	scopeOf     int64
+	scopeLabels map[string]rdf.BlankNode
+
+	regexps map[string]*compiledRegexp
+
+	residual int64
+}
+
+func newRun(ctx context.Context, src source.Source, pp patternPlanner, o Options) (*run, error) {
+	r := &run{ctx: ctx, src: src, planner: pp, limit: o.MaxBuffered}
+	if r.limit <= 0 {
+		r.limit = DefaultMaxBuffered
+	}
+	if o.Base != "" {
+		b, err := url.Parse(o.Base)
+		if err != nil || !b.IsAbs() {
+			return nil, &Error{Kind: BadQuery, Err: fmt.Errorf("the base IRI %q is not an absolute IRI", o.Base)}
+		}
+		r.base = b
+	}
+	now := o.Now
+	if now.IsZero() {
+		now = time.Now()
+	}
+	r.now = nowLiteral(now)
+	seed := uint64(now.UnixNano())
+	r.rand = rand.New(rand.NewPCG(seed, seed>>32|1))
+	return r, nil
+}
+
+// freshBlank returns a blank node no other call returns in this run. Labels
+// start with "x", which the labels of mapped blank nodes never do (they start
+// with "b", see BuildTerm).
+func (r *run) freshBlank() rdf.BlankNode {
+	r.blanks++
+	return rdf.BlankNode("x" + strconv.FormatInt(r.blanks, 10))
+}
+
+// newScope starts the evaluation of the expressions over a new solution: BNODE
+// with a string argument gives new blank nodes from here on.
+func (r *run) newScope() { r.scope++ }
+
+// scopedBlank is BNODE(s): one blank node per string within a scope.
+func (r *run) scopedBlank(s string) rdf.BlankNode {
+	if r.scopeLabels == nil || r.scopeOf != r.scope {
+		r.scopeLabels = map[string]rdf.BlankNode{}
+		r.scopeOf = r.scope
+	}
+	b, ok := r.scopeLabels[s]
+	if !ok {
+		b = r.freshBlank()
+		r.scopeLabels[s] = b
+	}
+	return b
+}
+
+// regexp compiles a pattern with flags, once per run for each pair; a pattern
+// that does not compile is an expression error.
+func (r *run) regexp(pattern, flags string) (*compiledRegexp, error) {
+	key := flags + "\x00" + pattern
+	if c, ok := r.regexps[key]; ok {
+		if c == nil {
+			return nil, errExpr
+		}
+		return c, nil
+	}
+	if r.regexps == nil || len(r.regexps) > 1024 {
+		r.regexps = map[string]*compiledRegexp{}
+	}
+	re, f, err := compileRegexp(pattern, flags)
+	if err != nil {
+		r.regexps[key] = nil
+		return nil, errExpr
+	}
+	c := &compiledRegexp{re: re, flags: f}
+	r.regexps[key] = c
+	return c, nil
+}
+
+// tooLarge is the error of an operator that would buffer more than the limit.
+func (r *run) tooLarge(what string) error {
+	return &Error{Kind: TooLarge, Err: fmt.Errorf("%s holds more than %d solutions in memory (the limit on buffered solutions)", what, r.limit)}
+}
+
+// fail gives an error that ends the iteration its kind: planner errors are the
+// query's fault, failures of the source depend on the context.
+func (r *run) fail(err error) error {
+	if _, ok := err.(*rewrite.Unsupported); ok {
+		return &Error{Kind: BadQuery, Err: err}
+	}
+	return classify(r.ctx, err)
+}
