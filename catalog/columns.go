@@ -3,9 +3,11 @@ package catalog
 import (
 	"context"
 	"fmt"
+	"slices"
 	"sort"
 	"strings"
 
+	"veneer/catalog/rdf"
 	"veneer/catalog/source"
 )
 
@@ -29,50 +31,141 @@ func (t LogicalTable) Key() string {
 
 // ProbeColumns reads the columns of each logical table of cat from src (by running
 // the table's query so that it returns no row) and checks that every column a term
-// map or join condition names exists. Errors name the mapping position.
+// map or join condition names exists. On failure the error is an ErrorList of
+// every problem Check finds that is not a warning, sorted by position.
 func ProbeColumns(ctx context.Context, src source.Source, cat *Catalog) (*Columns, error) {
-	c := &Columns{tables: map[string][]source.Column{}, keys: map[string][][]string{}}
-	for _, tm := range cat.Maps {
-		if err := c.probe(ctx, src, tm.Table, tm.Pos); err != nil {
-			return nil, err
-		}
-	}
-	// Keys make the planner's SQL simpler (no DISTINCT, no self-joins); without
-	// them every answer is still right, so a schema that cannot be read only
-	// costs speed.
-	if schema, err := source.Introspect(ctx, src, ""); err == nil {
-		c.readSchema(cat, schema)
-	}
-	for _, tm := range cat.Maps {
-		if err := c.checkMap(tm); err != nil {
-			return nil, err
-		}
+	c, problems := Check(ctx, src, cat)
+	if errs := problems.Errors(); len(errs) > 0 {
+		return nil, errs
 	}
 	return c, nil
 }
 
-func (c *Columns) probe(ctx context.Context, src source.Source, t LogicalTable, pos Pos) error {
-	key := t.Key()
-	if _, done := c.tables[key]; done {
-		return nil
+// Check checks cat against the live schema of src and reports every problem,
+// sorted by position: logical tables that cannot be read (a missing table, an
+// R2RML view the database rejects or whose result repeats a column name),
+// columns that term maps and join conditions name but the tables lack, and,
+// as warnings, datatypes given by rr:datatype that the column's values may not
+// fit. The columns of the tables that could be read are returned even when
+// there are problems.
+func Check(ctx context.Context, src source.Source, cat *Catalog) (*Columns, ErrorList) {
+	c := &Columns{tables: map[string][]source.Column{}, keys: map[string][][]string{}}
+	// The schema names the tables a missing one could have been meant as, and
+	// gives the keys, which make the planner's SQL simpler (no DISTINCT, no
+	// self-joins); without it every answer is still right, so a schema that
+	// cannot be read only costs speed.
+	schema, _ := source.Introspect(ctx, src, "")
+	var problems ErrorList
+	failed := map[string]error{}
+	for _, tm := range cat.Maps {
+		key := tm.Table.Key()
+		if _, done := c.tables[key]; !done && failed[key] == nil {
+			if err := c.probe(ctx, src, tm.Table, schema); err != nil {
+				failed[key] = err
+			}
+		}
+		if err := failed[key]; err != nil {
+			problems = append(problems, &Error{Pos: tablePos(tm), Msg: err.Error()})
+		}
 	}
+	if schema != nil {
+		c.readSchema(cat, schema)
+	}
+	var files []string
+	for _, tm := range cat.Maps {
+		problems = append(problems, c.checkMap(tm)...)
+		files = append(files, tm.Pos.File)
+	}
+	return c, problems.Sorted(files...)
+}
+
+// tablePos is where a triples map's logical table was written, or the map's
+// own position when the table was not written in a file.
+func tablePos(tm *TriplesMap) Pos {
+	if tm.Table.Pos.Line > 0 {
+		return tm.Table.Pos
+	}
+	return tm.Pos
+}
+
+// probe reads the result columns of a logical table. When the table cannot be
+// read, the error says why; for a table the schema lacks, it lists the tables
+// the schema has.
+func (c *Columns) probe(ctx context.Context, src source.Source, t LogicalTable, schema *source.Schema) error {
 	from, err := FromClause(t, src.Dialect())
 	if err != nil {
-		return fmt.Errorf("%s: %w", pos, err)
+		return err
 	}
 	// The probe reads no row: "1 = 0" is the planner's own constant, not a value.
 	rows, err := src.Query(ctx, "SELECT * FROM "+from+" WHERE 1 = 0")
+	if err == nil {
+		for rows.Next() {
+		}
+		err = rows.Err()
+		rows.Close()
+	}
 	if err != nil {
-		return fmt.Errorf("%s: reading the columns of %s: %w", pos, t.describe(), err)
+		if t.Query != "" {
+			return fmt.Errorf("the database rejects the R2RML view: %w", err)
+		}
+		if missing, names := missingTable(t.TableName, schema); missing {
+			return fmt.Errorf("table %s does not exist (the schema has: %s)", t.TableName, names)
+		}
+		return fmt.Errorf("reading the columns of table %s: %w", t.TableName, err)
 	}
-	defer rows.Close()
-	for rows.Next() {
+	cols := rows.Columns()
+	// R2RML §5.4: the result of an R2RML view must not have duplicate column names.
+	seen := map[string]bool{}
+	for _, col := range cols {
+		if seen[col.Name] {
+			return fmt.Errorf("the result of the R2RML view has more than one column named %s: name each column once (with AS)", col.Name)
+		}
+		seen[col.Name] = true
 	}
-	if err := rows.Err(); err != nil {
-		return fmt.Errorf("%s: reading the columns of %s: %w", pos, t.describe(), err)
-	}
-	c.tables[key] = rows.Columns()
+	c.tables[t.Key()] = cols
 	return nil
+}
+
+// missingTable reports whether the introspected schema lacks a table that
+// name, as a mapping writes it, would be in, and then the names it has.
+func missingTable(name string, schema *source.Schema) (bool, string) {
+	if schema == nil {
+		return false, ""
+	}
+	if table, inSchema := schemaTable(name, schema); table != nil || !inSchema {
+		return false, ""
+	}
+	names := make([]string, len(schema.Tables))
+	for i, st := range schema.Tables {
+		names[i] = st.Name
+	}
+	if len(names) == 0 {
+		return true, "no tables"
+	}
+	return true, strings.Join(names, ", ")
+}
+
+// schemaTable finds the table of the introspected schema that name, as a
+// mapping writes it, refers to: an unqualified name, or one qualified with the
+// schema's name. inSchema is false for a name that points into another schema
+// or is not a name at all, about which the schema says nothing.
+func schemaTable(name string, schema *source.Schema) (table *source.Table, inSchema bool) {
+	parts, err := ParseName(name)
+	switch {
+	case err != nil || len(parts) > 2:
+		return nil, false
+	case len(parts) == 2:
+		if !parts[0].Matches(schema.Name) {
+			return nil, false
+		}
+		parts = parts[1:]
+	}
+	for _, st := range schema.Tables {
+		if parts[0].Matches(st.Name) {
+			table = st
+		}
+	}
+	return table, true
 }
 
 // readSchema takes from the introspected schema what a result column's metadata
@@ -84,16 +177,7 @@ func (c *Columns) readSchema(cat *Catalog, schema *source.Schema) {
 		if t.Query != "" {
 			continue
 		}
-		parts, err := ParseName(t.TableName)
-		if err != nil || len(parts) != 1 {
-			continue // qualified names may name another schema: no keys known
-		}
-		var table *source.Table
-		for _, st := range schema.Tables {
-			if parts[0].Matches(st.Name) {
-				table = st
-			}
-		}
+		table, _ := schemaTable(t.TableName, schema)
 		if table == nil || table.View {
 			continue
 		}
@@ -159,53 +243,129 @@ func (t LogicalTable) describe() string {
 	return "table " + t.TableName
 }
 
-func (c *Columns) checkMap(tm *TriplesMap) error {
-	check := func(t LogicalTable, col string, pos Pos) error {
+// checkMap reports the columns that the term maps and join conditions of tm
+// name but their tables lack, and the datatypes that may not fit their
+// columns. Tables that could not be read were reported by the probe.
+func (c *Columns) checkMap(tm *TriplesMap) ErrorList {
+	var problems ErrorList
+	report := func(pos Pos, format string, args ...any) {
+		problems = append(problems, &Error{Pos: pos, Msg: fmt.Sprintf(format, args...)})
+	}
+	check := func(t LogicalTable, col string, pos Pos, role string) {
+		if _, known := c.tables[t.Key()]; !known {
+			return
+		}
 		if _, err := c.Lookup(t, col); err != nil {
-			return fmt.Errorf("%s: %w", pos, err)
+			report(pos, "%s%v", role, err)
 		}
-		return nil
 	}
-	checkTerm := func(m TermMap) error {
+	checkTerm := func(m TermMap) {
 		for _, col := range m.Columns() {
-			if err := check(tm.Table, col, m.Pos); err != nil {
-				return err
-			}
+			check(tm.Table, col, m.Pos, "")
 		}
-		return nil
 	}
-	if err := checkTerm(tm.Subject); err != nil {
-		return err
-	}
+	checkTerm(tm.Subject)
 	for _, g := range tm.Graphs {
-		if err := checkTerm(g); err != nil {
-			return err
-		}
+		checkTerm(g)
 	}
 	for _, pom := range tm.PredicateObjects {
-		for _, m := range append(append([]TermMap{}, pom.Predicates...), pom.Graphs...) {
-			if err := checkTerm(m); err != nil {
-				return err
-			}
+		for _, m := range pom.Predicates {
+			checkTerm(m)
+		}
+		for _, m := range pom.Graphs {
+			checkTerm(m)
 		}
 		for _, om := range pom.Objects {
 			if om.Term != nil {
-				if err := checkTerm(*om.Term); err != nil {
-					return err
+				checkTerm(*om.Term)
+				if w := c.datatypeWarning(tm.Table, *om.Term); w != nil {
+					problems = append(problems, w)
 				}
 				continue
 			}
 			for _, j := range om.Ref.Joins {
-				if err := check(tm.Table, j.Child, om.Ref.Pos); err != nil {
-					return err
+				pos := j.Pos
+				if pos.Line == 0 {
+					pos = om.Ref.Pos
 				}
-				if err := check(om.Ref.Parent.Table, j.Parent, om.Ref.Pos); err != nil {
-					return err
-				}
+				check(tm.Table, j.Child, pos, "rr:child: ")
+				check(om.Ref.Parent.Table, j.Parent, pos, "rr:parent: ")
 			}
 		}
 	}
-	return nil
+	return problems
+}
+
+// fitting lists, for each type family, the XSD datatypes whose lexical space
+// holds the canonical lexical form of every value of the family (the form
+// Lexical gives, which a literal with rr:datatype carries: R2RML §10.2). For
+// integers it includes the types derived from xsd:integer, whose value ranges
+// a column's values may still exceed. xsd:string fits every family.
+var fitting = map[source.TypeKind][]rdf.IRI{
+	source.TypeInteger:     append([]rdf.IRI{rdf.XSDInteger, rdf.XSDDecimal, rdf.XSDDouble, rdf.XSDFloat}, integerTypes...),
+	source.TypeDecimal:     {rdf.XSDDecimal, rdf.XSDDouble, rdf.XSDFloat},
+	source.TypeFloat:       {rdf.XSDDouble, rdf.XSDFloat},
+	source.TypeBoolean:     {rdf.XSDBoolean},
+	source.TypeBinary:      {rdf.XSDHexBin},
+	source.TypeDate:        {rdf.XSDDate},
+	source.TypeTime:        {rdf.XSDTime},
+	source.TypeTimestamp:   {rdf.XSDDateTime},
+	source.TypeTimestampTZ: {rdf.XSDDateTime, rdf.XSDNS + "dateTimeStamp"},
+}
+
+// integerTypes are the datatypes XML Schema 1.1 Part 2 (§3.4) derives from
+// xsd:integer.
+var integerTypes = []rdf.IRI{
+	rdf.XSDNS + "nonPositiveInteger", rdf.XSDNS + "negativeInteger", rdf.XSDNS + "long",
+	rdf.XSDNS + "int", rdf.XSDNS + "short", rdf.XSDNS + "byte", rdf.XSDNS + "nonNegativeInteger",
+	rdf.XSDNS + "unsignedLong", rdf.XSDNS + "unsignedInt", rdf.XSDNS + "unsignedShort",
+	rdf.XSDNS + "unsignedByte", rdf.XSDNS + "positiveInteger",
+}
+
+// judged reports whether the fit of datatype dt to a column can be judged: it
+// is one of the datatypes some family's values fit. Other datatypes, such as
+// xsd:gYear or one outside XML Schema, are left to the mapping's author.
+func judged(dt rdf.IRI) bool {
+	for _, dts := range fitting {
+		if slices.Contains(dts, dt) {
+			return true
+		}
+	}
+	return false
+}
+
+// datatypeWarning warns when the rr:datatype of a column-valued literal map is
+// one whose lexical space the column's values may not be in: such rows give
+// ill-typed literals (R2RML §10.2 keeps the value's lexical form, whatever the
+// datatype).
+func (c *Columns) datatypeWarning(t LogicalTable, m TermMap) *Error {
+	if m.Kind != Column || m.TermType != rdf.KindLiteral || m.Datatype == "" || m.Datatype == rdf.XSDString || !judged(m.Datatype) {
+		return nil
+	}
+	col, err := c.Lookup(t, m.Column)
+	// A column of no known type (SQLite reports none for an expression) may
+	// hold anything: nothing to judge.
+	if err != nil || col.DatabaseType == "" || slices.Contains(fitting[col.Kind], m.Datatype) {
+		return nil
+	}
+	return &Error{Pos: m.Pos, Warning: true, Msg: fmt.Sprintf(
+		"rr:datatype %s on column %s of type %s: its values need not be %s lexical forms, and those that are not give ill-typed literals (the column's natural datatype is %s)",
+		shortXSD(m.Datatype), m.Column, col.DatabaseType, shortXSD(m.Datatype), naturalName(col.Kind))}
+}
+
+// shortXSD writes an XSD datatype as xsd:name, any other IRI in brackets.
+func shortXSD(dt rdf.IRI) string {
+	if local, ok := strings.CutPrefix(string(dt), rdf.XSDNS); ok {
+		return "xsd:" + local
+	}
+	return dt.String()
+}
+
+func naturalName(k source.TypeKind) string {
+	if dt := NaturalDatatype(k); dt != "" {
+		return shortXSD(dt)
+	}
+	return "xsd:string"
 }
 
 // Lookup finds a column of a logical table by the name a mapping gives it.

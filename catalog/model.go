@@ -57,6 +57,8 @@ type LogicalTable struct {
 	Query string
 	// SQLVersions are the rr:sqlVersion IRIs of a view.
 	SQLVersions []rdf.IRI
+	// Pos is where the table name or query was written.
+	Pos Pos
 }
 
 // TermMapKind says how a term map produces its term.
@@ -151,4 +153,6 @@ type RefObjectMap struct {
 // JoinCondition equates a child column with a parent column.
 type JoinCondition struct {
 	Child, Parent string
+	// Pos is where the join condition was written.
+	Pos Pos
 }

@@ -83,6 +83,48 @@ func (t Template) Expand(values map[string]string, iri bool) string {
 	return b.String()
 }
 
+// CheckIRI reports why no IRI the template expands to can be valid, or nil. An
+// IRI-valued template gives a valid IRI either as it is or with the base IRI
+// put before it (R2RML §11), so only its literal text can make every IRI
+// invalid: a character no IRI may contain (RFC 3987 §2.2), a '%' not followed
+// by two hexadecimal digits, or a second '#'. Column values cannot repair these:
+// IRI-safe encoding (§7.3) leaves no such character in them, though the hex
+// digits a value starts with may complete a '%' just before its column.
+func (t Template) CheckIRI() error {
+	hashes := 0
+	for i, p := range t.Parts {
+		if p.Column != "" {
+			continue
+		}
+		beforeColumn := i+1 < len(t.Parts)
+		for j, r := range p.Text {
+			switch {
+			case !rdf.IsIRIChar(r):
+				return fmt.Errorf("the template's text has %q, which no IRI may contain (write it percent-encoded: %s)", r, IRISafe(string(r)))
+			case r == '#':
+				if hashes++; hashes > 1 {
+					return fmt.Errorf("the template's text has a second '#': an IRI has at most one fragment")
+				}
+			case r == '%':
+				rest := p.Text[j+1:]
+				for k := 0; k < 2; k++ {
+					switch {
+					case k < len(rest) && !isHexDigit(rest[k]):
+						return fmt.Errorf("the template's text has a '%%' not followed by two hexadecimal digits (write a '%%' itself as %%25)")
+					case k >= len(rest) && !beforeColumn:
+						return fmt.Errorf("the template ends in an incomplete percent-encoding (write a '%%' itself as %%25)")
+					}
+				}
+			}
+		}
+	}
+	return nil
+}
+
+func isHexDigit(c byte) bool {
+	return '0' <= c && c <= '9' || 'a' <= c && c <= 'f' || 'A' <= c && c <= 'F'
+}
+
 // Match decodes s, a string the template may have produced, back into the values
 // of its columns. It reports false when the template cannot produce s. With iri set
 // the values are percent-decoded, and a value IRISafe would not have produced is no

@@ -33,7 +33,7 @@ func NewTokens(tokens ...string) *Tokens {
 // and lines starting with '#' are skipped and surrounding white space is
 // trimmed. A token must be a b64token (RFC 6750 §2.1), so that a client can
 // send it; the error names the line, never the token.
-func ReadTokens(name string, r io.Reader) (*Tokens, error) {
+func ReadTokens(name string, r io.Reader) ([]string, error) {
 	var toks []string
 	sc := bufio.NewScanner(r)
 	for line := 1; sc.Scan(); line++ {
@@ -49,7 +49,7 @@ func ReadTokens(name string, r io.Reader) (*Tokens, error) {
 	if err := sc.Err(); err != nil {
 		return nil, fmt.Errorf("reading tokens from %s: %w", name, err)
 	}
-	return NewTokens(toks...), nil
+	return toks, nil
 }
 
 // Len returns the number of tokens.

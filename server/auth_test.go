@@ -50,9 +50,10 @@ func TestBearerTokens(t *testing.T) {
 }
 
 func TestReadTokens(t *testing.T) {
-	toks, err := ReadTokens("tokens.txt", strings.NewReader("# dashboards\n  alpha-1  \n\nbeta/2==\n"))
+	list, err := ReadTokens("tokens.txt", strings.NewReader("# dashboards\n  alpha-1  \n\nbeta/2==\n"))
+	toks := NewTokens(list...)
 	if err != nil || toks.Len() != 2 || !toks.match("alpha-1") || !toks.match("beta/2==") || toks.match("alpha") {
-		t.Fatalf("ReadTokens: %v, %d tokens", err, toks.Len())
+		t.Fatalf("ReadTokens: %v, %q", err, list)
 	}
 	// RFC 6750 §2.1: b64token; the error names the line, not the token.
 	_, err = ReadTokens("tokens.txt", strings.NewReader("ok\nbad token\n"))

@@ -3,6 +3,7 @@ package server
 import (
 	"context"
 	"database/sql"
+	"strings"
 	"time"
 
 	"veneer/catalog/rdf"
@@ -124,6 +125,13 @@ type Explanation struct {
 	// Plan is the plan: the SQL for each source with its parameters, and the
 	// residual operators that run in-process.
 	Plan string `json:"plan"`
+}
+
+// Text returns the explanation for people: the algebra, indented, under an
+// "algebra:" line, then the plan.
+func (e *Explanation) Text() string {
+	alg := strings.TrimRight(e.Algebra, "\n")
+	return "algebra:\n  " + strings.ReplaceAll(alg, "\n", "\n  ") + "\n" + e.Plan
 }
 
 // PoolStater is implemented by engines that can report on the connection

@@ -10,7 +10,7 @@ import (
 	"context"
 	"encoding/json"
 	"errors"
-	"fmt"
+	"io"
 	"log/slog"
 	"net/http"
 	"strings"
@@ -316,17 +316,11 @@ func (s *Server) explain(w http.ResponseWriter, r *http.Request) error {
 	w.Header().Add("Vary", "Accept")
 	if mt == "text/plain" {
 		w.Header().Set("Content-Type", "text/plain; charset=utf-8")
-		_, err = fmt.Fprintf(w, "algebra:\n%s%s", indent(e.Algebra), e.Plan)
+		_, err = io.WriteString(w, e.Text())
 		return err
 	}
 	w.Header().Set("Content-Type", "application/json")
 	return json.NewEncoder(w).Encode(e)
-}
-
-// indent indents every line of s by two spaces.
-func indent(s string) string {
-	s = strings.TrimRight(s, "\n")
-	return "  " + strings.ReplaceAll(s, "\n", "\n  ") + "\n"
 }
 
 // endpointURL is the URL the client asked for, without its query string: the

@@ -5,12 +5,12 @@ import (
 	"fmt"
 	"os"
 	"path/filepath"
-	"regexp"
 	"strings"
 	"testing"
 
 	"veneer/catalog"
 	"veneer/catalog/direct"
+	"veneer/catalog/internal/rdb2rdf"
 	"veneer/catalog/rdf"
 	"veneer/catalog/source"
 	"veneer/catalog/source/sourcetest"
@@ -24,15 +24,6 @@ const (
 	dcNS   = "http://purl.org/dc/elements/1.1/"
 )
 
-// rdb2rdfDir is the W3C RDB2RDF test suite: $VENEER_W3C/rdb2rdf-tests, or the
-// shared copy beside the repository.
-func rdb2rdfDir() string {
-	if d := os.Getenv("VENEER_W3C"); d != "" {
-		return filepath.Join(d, "rdb2rdf-tests")
-	}
-	return filepath.Join("..", "..", "..", "shared", "w3c", "rdb2rdf-tests")
-}
-
 // dmCase is a Direct Mapping test of the suite, as its manifest describes it.
 type dmCase struct {
 	id, dir, script, output string
@@ -40,9 +31,9 @@ type dmCase struct {
 
 // dmCases reads the Direct Mapping tests from the suite's manifests.
 func dmCases(t *testing.T) []dmCase {
-	manifests, err := filepath.Glob(filepath.Join(rdb2rdfDir(), "D*", "manifest.ttl"))
+	manifests, err := filepath.Glob(filepath.Join(rdb2rdf.Dir(), "D*", "manifest.ttl"))
 	if err != nil || len(manifests) == 0 {
-		t.Fatalf("no RDB2RDF manifests under %s (set VENEER_W3C to the W3C suites)", rdb2rdfDir())
+		t.Fatalf("no RDB2RDF manifests under %s (set VENEER_W3C to the W3C suites)", rdb2rdf.Dir())
 	}
 	var cases []dmCase
 	for _, m := range manifests {
@@ -86,77 +77,6 @@ func dmCases(t *testing.T) []dmCase {
 	return cases
 }
 
-// adaptation is a textual change that makes the suite's SQL, written for a
-// database none of ours is, run on one of ours.
-type adaptation struct {
-	re   *regexp.Regexp
-	repl string
-}
-
-// adaptations lists the changes per dialect; MySQL (with ANSI_QUOTES) runs the
-// scripts as written. PostgreSQL's bit type accepts no integer literal, so
-// D016's bit column becomes smallint there; the structure this test checks
-// does not depend on it.
-var adaptations = map[source.Dialect][]adaptation{
-	source.Postgres: {
-		{regexp.MustCompile(`(?i)\bNVARCHAR\b`), "VARCHAR"},
-		{regexp.MustCompile(`\bN'`), "'"},
-		{regexp.MustCompile(`(?i)\bdatetime\b`), "timestamp"},
-		{regexp.MustCompile(`(?i)\bVARBINARY\s*\(\d+\)`), "bytea"},
-		{regexp.MustCompile(`\b0x([0-9A-Fa-f]+)`), `'\x$1'`},
-		{regexp.MustCompile(`(?i)\bbit\b`), "smallint"},
-	},
-	source.SQLite: {
-		{regexp.MustCompile(`\bN'`), "'"},
-		{regexp.MustCompile(`\b0x([0-9A-Fa-f]+)`), `x'$1'`},
-	},
-}
-
-// sqliteSkips are the tests whose scripts SQLite cannot run, with the reason.
-var sqliteSkips = map[string]string{
-	"DirectGraphTC0021": "create.sql puts table constraints between column definitions, which SQLite's grammar does not allow",
-	"DirectGraphTC0022": "create.sql puts table constraints between column definitions, which SQLite's grammar does not allow",
-	"DirectGraphTC0023": "create.sql puts table constraints between column definitions, which SQLite's grammar does not allow",
-	"DirectGraphTC0024": "create.sql puts table constraints between column definitions, which SQLite's grammar does not allow",
-	"DirectGraphTC0025": "create.sql puts table constraints between column definitions and adds foreign keys by ALTER TABLE, which SQLite does not allow",
-}
-
-// statements splits an SQL script at the semicolons outside quotes and comments.
-func statements(script string) []string {
-	var out []string
-	var cur strings.Builder
-	var quote byte
-	for i := 0; i < len(script); i++ {
-		c := script[i]
-		switch {
-		case quote != 0:
-			if c == quote {
-				quote = 0
-			}
-		case c == '\'' || c == '"':
-			quote = c
-		case c == '-' && strings.HasPrefix(script[i:], "--"):
-			j := strings.IndexByte(script[i:], '\n')
-			if j < 0 {
-				j = len(script) - i
-			}
-			i += j
-			continue
-		case c == ';':
-			if s := strings.TrimSpace(cur.String()); s != "" {
-				out = append(out, s)
-			}
-			cur.Reset()
-			continue
-		}
-		cur.WriteByte(c)
-	}
-	if s := strings.TrimSpace(cur.String()); s != "" {
-		out = append(out, s)
-	}
-	return out
-}
-
 // TestW3CDirectGraphs loads each Direct Mapping test database of the W3C
 // RDB2RDF suite into PostgreSQL, MySQL and SQLite, maps its introspected schema, and
 // checks the catalog against the test's expected graph (directGraph.ttl): the
@@ -175,7 +95,7 @@ func TestW3CDirectGraphs(t *testing.T) {
 		t.Run(d.String(), func(t *testing.T) {
 			for _, c := range cases {
 				t.Run(c.id, func(t *testing.T) {
-					if why := sqliteSkips[c.id]; d == source.SQLite && why != "" {
+					if why := rdb2rdf.Unsupported(d, c.dir); why != "" {
 						t.Skip(why)
 					}
 					checkDirectGraph(t, sourcetest.New(t, d), c)
@@ -186,15 +106,7 @@ func TestW3CDirectGraphs(t *testing.T) {
 }
 
 func checkDirectGraph(t *testing.T, db *sourcetest.DB, c dmCase) {
-	script, err := os.ReadFile(filepath.Join(c.dir, c.script))
-	if err != nil {
-		t.Fatal(err)
-	}
-	sql := strings.TrimPrefix(string(script), "\uFEFF")
-	for _, a := range adaptations[db.Dialect] {
-		sql = a.re.ReplaceAllString(sql, a.repl)
-	}
-	db.Exec(t, statements(sql)...)
+	rdb2rdf.Load(t, db, c.dir, c.script)
 	ctx := context.Background()
 	schema, err := source.Introspect(ctx, db.Open(t), "")
 	if err != nil {

@@ -10,7 +10,6 @@ import (
 	"net/url"
 	"os"
 	"path/filepath"
-	"sort"
 	"strings"
 
 	"veneer/catalog"
@@ -18,37 +17,11 @@ import (
 )
 
 // Error is a mistake in a mapping document: where it is and what is wrong.
-type Error struct {
-	Pos catalog.Pos
-	Msg string
-}
-
-// Error renders the error as "file:line:column: message".
-func (e *Error) Error() string { return e.Pos.String() + ": " + e.Msg }
+type Error = catalog.Error
 
 // ErrorList is the list of mistakes found in the mapping documents, in document
 // order and then by position. Its Error shows the first.
-type ErrorList []*Error
-
-// Error shows the first error and how many more there are.
-func (l ErrorList) Error() string {
-	switch len(l) {
-	case 0:
-		return "no errors"
-	case 1:
-		return l[0].Error()
-	}
-	return fmt.Sprintf("%s (and %d more errors)", l[0], len(l)-1)
-}
-
-// Unwrap gives errors.Is and errors.As access to each error of the list.
-func (l ErrorList) Unwrap() []error {
-	errs := make([]error, len(l))
-	for i, e := range l {
-		errs[i] = e
-	}
-	return errs
-}
+type ErrorList = catalog.ErrorList
 
 // Load reads one R2RML mapping document. name is used in positions and to make
 // the base IRI relative IRIs are resolved against when the document sets none
@@ -62,6 +35,33 @@ func Load(name string, src []byte) (*catalog.Catalog, error) {
 // map may name, as its rr:parentTriplesMap, a triples map of another document
 // (by IRI; blank nodes are local to their document).
 func LoadFiles(paths ...string) (*catalog.Catalog, error) {
+	ins, err := readFiles(paths)
+	if err != nil {
+		return nil, err
+	}
+	return load(ins)
+}
+
+// LoadPartial reads mapping files like LoadFiles, but goes on past the mapping
+// mistakes it finds, so that what it could read can be checked further (see
+// CheckFiles): it returns the mistakes, sorted, and a catalog of the triples
+// maps whose logical table and subject map could be read, without the term
+// maps that could not and without references to triples maps left out. err is
+// a file that cannot be read or a Turtle syntax error, after which there is no
+// catalog.
+func LoadPartial(paths ...string) (*catalog.Catalog, ErrorList, error) {
+	ins, err := readFiles(paths)
+	if err != nil {
+		return nil, nil, err
+	}
+	cat, mistakes, err := read(ins)
+	if err != nil {
+		return nil, nil, err
+	}
+	return usable(cat), mistakes, nil
+}
+
+func readFiles(paths []string) ([]input, error) {
 	if len(paths) == 0 {
 		return nil, errors.New("loading R2RML mappings: no mapping file given")
 	}
@@ -73,7 +73,7 @@ func LoadFiles(paths ...string) (*catalog.Catalog, error) {
 		}
 		ins[i] = input{p, src}
 	}
-	return load(ins)
+	return ins, nil
 }
 
 type input struct {
@@ -127,11 +127,24 @@ type pendingRef struct {
 }
 
 func load(ins []input) (*catalog.Catalog, error) {
+	cat, mistakes, err := read(ins)
+	switch {
+	case err != nil:
+		return nil, err
+	case len(mistakes) > 0:
+		return nil, mistakes
+	}
+	return cat, nil
+}
+
+// read reads the documents into a catalog of every triples map found, parts
+// with mistakes included, and the mistakes.
+func read(ins []input) (*catalog.Catalog, ErrorList, error) {
 	l := &loader{bySubj: map[node][]stmt{}, maps: map[node]*catalog.TriplesMap{}}
 	for i, in := range ins {
 		doc, err := rdf.ParseTurtle(in.name, in.src, documentBase(in.name))
 		if err != nil {
-			return nil, err
+			return nil, nil, err
 		}
 		l.names = append(l.names, in.name)
 		for _, st := range doc.Statements {
@@ -163,9 +176,41 @@ func load(ins []input) (*catalog.Catalog, error) {
 			"no triples maps found: a triples map is a resource with an rr:logicalTable and a subject map (rr:subjectMap or rr:subject)")
 	}
 	if len(l.errs) > 0 {
-		return nil, l.sortedErrors()
+		return cat, l.sortedErrors(), nil
 	}
-	return cat, nil
+	return cat, nil, nil
+}
+
+// usable returns the part of a catalog read with mistakes that can be checked
+// against a database: the triples maps with a well-formed logical table and a
+// subject map, and of their object maps those whose parent is one of them.
+func usable(cat *catalog.Catalog) *catalog.Catalog {
+	kept := map[*catalog.TriplesMap]bool{}
+	out := &catalog.Catalog{}
+	for _, tm := range cat.Maps {
+		t := tm.Table
+		if _, err := catalog.ParseName(t.TableName); (err != nil && t.Query == "") || tm.Subject.Kind == 0 {
+			continue
+		}
+		kept[tm] = true
+		out.Maps = append(out.Maps, tm)
+	}
+	for _, tm := range out.Maps {
+		poms := tm.PredicateObjects[:0]
+		for _, pom := range tm.PredicateObjects {
+			objs := pom.Objects[:0]
+			for _, om := range pom.Objects {
+				if om.Ref == nil || kept[om.Ref.Parent] {
+					objs = append(objs, om)
+				}
+			}
+			if pom.Objects = objs; len(objs) > 0 {
+				poms = append(poms, pom)
+			}
+		}
+		tm.PredicateObjects = poms
+	}
+	return out
 }
 
 func (l *loader) nodeOf(t rdf.Term, file int) node {
@@ -208,32 +253,9 @@ func (l *loader) errAt(st stmt, object bool, format string, args ...any) {
 	l.errorf(l.at(st.file, p), format, args...)
 }
 
-// sortedErrors sorts the errors and drops repeats (a resource shared by several
-// maps is checked once for each).
-func (l *loader) sortedErrors() ErrorList {
-	fileIndex := map[string]int{}
-	for i := len(l.names) - 1; i >= 0; i-- {
-		fileIndex[l.names[i]] = i
-	}
-	sort.SliceStable(l.errs, func(i, j int) bool {
-		a, b := l.errs[i], l.errs[j]
-		if fa, fb := fileIndex[a.Pos.File], fileIndex[b.Pos.File]; fa != fb {
-			return fa < fb
-		}
-		if a.Pos.Line != b.Pos.Line {
-			return a.Pos.Line < b.Pos.Line
-		}
-		return a.Pos.Col < b.Pos.Col
-	})
-	var out ErrorList
-	for i, e := range l.errs {
-		if i > 0 && e.Pos == l.errs[i-1].Pos && e.Msg == l.errs[i-1].Msg {
-			continue
-		}
-		out = append(out, e)
-	}
-	return out
-}
+// sortedErrors sorts the errors in document order and drops repeats (a
+// resource shared by several maps is checked once for each).
+func (l *loader) sortedErrors() ErrorList { return l.errs.Sorted(l.names...) }
 
 // checkVocabulary reports properties and classes of the R2RML namespace that
 // the vocabulary does not have, wherever they are used.
@@ -407,6 +429,7 @@ func (l *loader) logicalTable(n node, pos catalog.Pos) catalog.LogicalTable {
 		return t
 	}
 	if st, ok := l.atMostOne(names, roleLogicalTable); ok {
+		t.Pos = l.at(st.file, st.ObjectPos)
 		if s, ok := l.str(st); ok {
 			if _, err := catalog.ParseName(s); err != nil {
 				l.errAt(st, true, "rr:tableName: %v", err)
@@ -415,6 +438,7 @@ func (l *loader) logicalTable(n node, pos catalog.Pos) catalog.LogicalTable {
 		}
 	}
 	if st, ok := l.atMostOne(queries, roleLogicalTable); ok {
+		t.Pos = l.at(st.file, st.ObjectPos)
 		if s, ok := l.str(st); ok {
 			s = strings.TrimSpace(strings.TrimRight(strings.TrimSpace(s), ";"))
 			if s == "" {

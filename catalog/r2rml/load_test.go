@@ -271,9 +271,9 @@ func dump(cat *catalog.Catalog) string {
 	for _, tm := range cat.Maps {
 		fmt.Fprintf(&b, "triples map %s @%d:%d\n", tm.Name, tm.Pos.Line, tm.Pos.Col)
 		if tm.Table.Query != "" {
-			fmt.Fprintf(&b, "  query %q versions %v\n", tm.Table.Query, tm.Table.SQLVersions)
+			fmt.Fprintf(&b, "  query %q versions %v @%d:%d\n", tm.Table.Query, tm.Table.SQLVersions, tm.Table.Pos.Line, tm.Table.Pos.Col)
 		} else {
-			fmt.Fprintf(&b, "  table %s\n", tm.Table.TableName)
+			fmt.Fprintf(&b, "  table %s @%d:%d\n", tm.Table.TableName, tm.Table.Pos.Line, tm.Table.Pos.Col)
 		}
 		fmt.Fprintf(&b, "  subject %s\n", dumpTermMap(tm.Subject))
 		for _, c := range tm.Classes {
@@ -289,7 +289,10 @@ func dump(cat *catalog.Catalog) string {
 			}
 			for _, o := range pom.Objects {
 				if o.Ref != nil {
-					fmt.Fprintf(&b, "    ref @%d:%d parent %s joins %v\n", o.Ref.Pos.Line, o.Ref.Pos.Col, o.Ref.Parent.Name, o.Ref.Joins)
+					fmt.Fprintf(&b, "    ref @%d:%d parent %s\n", o.Ref.Pos.Line, o.Ref.Pos.Col, o.Ref.Parent.Name)
+					for _, j := range o.Ref.Joins {
+						fmt.Fprintf(&b, "      join child %s parent %s @%d:%d\n", j.Child, j.Parent, j.Pos.Line, j.Pos.Col)
+					}
 					continue
 				}
 				fmt.Fprintf(&b, "    object %s\n", dumpTermMap(*o.Term))

@@ -118,7 +118,7 @@ func (l *loader) refObjectMap(n node, pos catalog.Pos, child *catalog.TriplesMap
 		}
 		jpos := l.place(jst, jn)
 		jprops := l.properties(jn, roleJoin)
-		var j catalog.JoinCondition
+		j := catalog.JoinCondition{Pos: jpos}
 		var okChild, okParent bool
 		if cst, ok := l.atMostOne(jprops[rrChild], roleJoin); ok {
 			j.Child, okChild = l.columnName(cst)
@@ -219,9 +219,10 @@ func (l *loader) termMap(props map[rdf.IRI][]stmt, r role, pos catalog.Pos) (cat
 		m.Kind = catalog.Column
 		m.Column, ok = l.columnName(st)
 	}
-	if st, has := l.atMostOne(props[rrTemplate], r); has {
+	tpl, hasTemplate := l.atMostOne(props[rrTemplate], r)
+	if hasTemplate {
 		m.Kind = catalog.TemplateMap
-		m.Template, ok = l.template(st)
+		m.Template, ok = l.template(tpl)
 	}
 	for _, st := range props[rrInverseExpression] {
 		// The inverse expression is an optional hint for query rewriting that
@@ -237,6 +238,12 @@ func (l *loader) termMap(props map[rdf.IRI][]stmt, r role, pos catalog.Pos) (cat
 	}
 	if !l.literalOptions(&m, props, r) {
 		ok = false
+	}
+	if ok && hasTemplate && m.TermType == rdf.KindIRI {
+		if err := m.Template.CheckIRI(); err != nil {
+			l.errAt(tpl, true, "rr:template: %v", err)
+			ok = false
+		}
 	}
 	return m, ok
 }

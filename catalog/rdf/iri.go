@@ -2,6 +2,7 @@ package rdf
 
 import (
 	"errors"
+	"fmt"
 	"strings"
 )
 
@@ -15,9 +16,12 @@ type iriParts struct {
 // splitIRI splits an IRI reference the way RFC 3986 Appendix B does:
 //
 //	^(([^:/?#]+):)?(//([^/?#]*))?([^?#]*)(\?([^#]*))?(#(.*))?
+//
+// except that the part before the first ':' is a scheme only when it has a
+// scheme's characters (see isAbsoluteIRI); otherwise the reference is relative.
 func splitIRI(s string) iriParts {
 	var p iriParts
-	if i := strings.IndexAny(s, ":/?#"); i > 0 && s[i] == ':' {
+	if i := strings.IndexAny(s, ":/?#"); i > 0 && s[i] == ':' && isAbsoluteIRI(s) {
 		p.scheme, p.hasScheme, s = s[:i], true, s[i+1:]
 	}
 	if strings.HasPrefix(s, "//") {
@@ -79,12 +83,14 @@ func isAbsoluteIRI(s string) bool {
 	return false
 }
 
-var errNoBase = errors.New("relative IRI with no base IRI to resolve it against (declare one with @base)")
+// ErrNoBase is the error of ResolveIRI for a relative reference with no base IRI.
+var ErrNoBase = errors.New("relative IRI with no base IRI to resolve it against")
 
-// resolveIRI resolves the reference ref against the absolute IRI base with the
-// strict algorithm of RFC 3986 §5.2.2. An empty base is only allowed when ref
-// is absolute.
-func resolveIRI(base, ref string) (string, error) {
+// ResolveIRI resolves the IRI reference ref against the absolute IRI base with
+// the strict algorithm of RFC 3986 §5.2.2, removing dot segments. An absolute
+// ref needs no base; a relative one with an empty base fails with ErrNoBase,
+// and with a base that is not absolute with an error saying so.
+func ResolveIRI(base, ref string) (string, error) {
 	r := splitIRI(ref)
 	var t iriParts
 	switch {
@@ -93,7 +99,9 @@ func resolveIRI(base, ref string) (string, error) {
 		t.path = removeDotSegments(r.path)
 		return t.String(), nil
 	case base == "":
-		return "", errNoBase
+		return "", ErrNoBase
+	case !isAbsoluteIRI(base):
+		return "", fmt.Errorf("base IRI %q is not absolute", base)
 	}
 	b := splitIRI(base)
 	switch {

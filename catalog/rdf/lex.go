@@ -203,7 +203,7 @@ func lexSpace(l *lexer) stateFn {
 			return l.errorf(l.start, "expected '^^' before a datatype IRI")
 		}
 		return l.emit(itemCaretCaret, "^^")
-	case r == ':' || isPNCharsBase(r):
+	case r == ':' || IsPNCharsBase(r):
 		l.backup()
 		return lexName
 	}
@@ -228,11 +228,11 @@ func lexIRI(l *lexer) stateFn {
 			if msg != "" {
 				return l.errorf(at, "%s", msg)
 			}
-			if !isIRIChar(u) {
+			if !IsIRIChar(u) {
 				return l.errorf(at, "escape for character %q, which is not allowed in an IRI", u)
 			}
 			l.sb.WriteRune(u)
-		case !isIRIChar(r):
+		case !IsIRIChar(r):
 			return l.errorf(at, "character %q is not allowed in an IRI", r)
 		default:
 			l.sb.WriteRune(r)
@@ -240,10 +240,10 @@ func lexIRI(l *lexer) stateFn {
 	}
 }
 
-// isIRIChar reports whether r may appear in an IRIREF, directly or escaped. The
+// IsIRIChar reports whether r may appear in an IRIREF, directly or escaped. The
 // grammar's UCHAR allows any escape, but the W3C Turtle suite rejects escapes of
 // characters that may not appear in an IRI (turtle-syntax-bad-uri-escape-01..03).
-func isIRIChar(r rune) bool { return r > 0x20 && !strings.ContainsRune("<>\"{}|^`\\", r) }
+func IsIRIChar(r rune) bool { return r > 0x20 && !strings.ContainsRune("<>\"{}|^`\\", r) }
 
 // uchar reads the rest of a UCHAR after the backslash; it returns a message
 // instead of a rune when the escape is malformed.
@@ -352,7 +352,7 @@ func lexBlankLabel(l *lexer) stateFn {
 	if l.next() != ':' {
 		return l.errorf(l.start, "expected ':' after '_' in a blank node label")
 	}
-	if r := l.next(); !isPNCharsU(r) && !isDigit(r) {
+	if r := l.next(); !IsPNCharsU(r) && !isDigit(r) {
 		return l.errorf(l.start, "expected a letter, digit or '_' after '_:'")
 	}
 	end := l.pos
@@ -361,7 +361,7 @@ func lexBlankLabel(l *lexer) stateFn {
 		if r == '.' {
 			continue
 		}
-		if !isPNChars(r) {
+		if !IsPNChars(r) {
 			break
 		}
 		end = l.pos
@@ -456,7 +456,7 @@ func (l *lexer) exponentAt(k int) bool {
 //	PN_PREFIX  ::= PN_CHARS_BASE ((PN_CHARS | '.')* PN_CHARS)?
 func lexName(l *lexer) stateFn {
 	end := l.pos
-	if isPNCharsBase(l.peek()) {
+	if IsPNCharsBase(l.peek()) {
 		l.next()
 		end = l.pos
 		for {
@@ -464,7 +464,7 @@ func lexName(l *lexer) stateFn {
 			if r == '.' {
 				continue
 			}
-			if !isPNChars(r) {
+			if !IsPNChars(r) {
 				break
 			}
 			end = l.pos
@@ -522,7 +522,7 @@ func (l *lexer) localName() (string, string) {
 		case r == '.' && !first:
 			l.sb.WriteByte('.')
 			continue
-		case r == ':' || isPNCharsU(r) || isDigit(r) || (!first && isPNChars(r)):
+		case r == ':' || IsPNCharsU(r) || isDigit(r) || (!first && IsPNChars(r)):
 			l.sb.WriteRune(r)
 		default:
 			l.pos = end
@@ -551,8 +551,9 @@ func hexValue(r rune) int {
 	return -1
 }
 
-// isPNCharsBase implements PN_CHARS_BASE of the Turtle grammar.
-func isPNCharsBase(r rune) bool {
+// IsPNCharsBase implements PN_CHARS_BASE of the Turtle grammar (RDF 1.1 Turtle
+// §6.5; SPARQL 1.1 Query §19.8 defines the same class).
+func IsPNCharsBase(r rune) bool {
 	switch {
 	case isAlpha(r),
 		0xC0 <= r && r <= 0xD6, 0xD8 <= r && r <= 0xF6, 0xF8 <= r && r <= 0x2FF,
@@ -564,11 +565,11 @@ func isPNCharsBase(r rune) bool {
 	return false
 }
 
-// isPNCharsU implements PN_CHARS_U ::= PN_CHARS_BASE | '_'.
-func isPNCharsU(r rune) bool { return r == '_' || isPNCharsBase(r) }
+// IsPNCharsU implements PN_CHARS_U ::= PN_CHARS_BASE | '_'.
+func IsPNCharsU(r rune) bool { return r == '_' || IsPNCharsBase(r) }
 
-// isPNChars implements PN_CHARS ::= PN_CHARS_U | '-' | [0-9] | #x00B7 | [#x0300-#x036F] | [#x203F-#x2040].
-func isPNChars(r rune) bool {
-	return isPNCharsU(r) || r == '-' || isDigit(r) || r == 0xB7 ||
+// IsPNChars implements PN_CHARS ::= PN_CHARS_U | '-' | [0-9] | #x00B7 | [#x0300-#x036F] | [#x203F-#x2040].
+func IsPNChars(r rune) bool {
+	return IsPNCharsU(r) || r == '-' || isDigit(r) || r == 0xB7 ||
 		0x300 <= r && r <= 0x36F || 0x203F <= r && r <= 0x2040
 }

@@ -1,6 +1,7 @@
 package rdf
 
 import (
+	"errors"
 	"fmt"
 	"strings"
 )
@@ -156,7 +157,10 @@ func (p *turtleParser) iriRef() IRI {
 	if p.tok.typ != itemIRI {
 		p.fail("an IRI in angle brackets")
 	}
-	iri, err := resolveIRI(p.base, p.tok.val)
+	iri, err := ResolveIRI(p.base, p.tok.val)
+	if errors.Is(err, ErrNoBase) {
+		panic(parseError{p.src.errorAt(p.tok.pos, "<%s>: %v (declare one with @base)", p.tok.val, err)})
+	}
 	if err != nil {
 		panic(parseError{p.src.errorAt(p.tok.pos, "<%s>: %v", p.tok.val, err)})
 	}

@@ -82,7 +82,7 @@ func checkIRI(t Term) error {
 		iri = t.Datatype
 	}
 	for _, r := range string(iri) {
-		if !isIRIChar(r) {
+		if !IsIRIChar(r) {
 			return fmt.Errorf("IRI %q contains %q, which is not allowed in an IRI", string(iri), r)
 		}
 	}
@@ -118,9 +118,9 @@ func isBlankLabel(s string) bool {
 	}
 	for i, r := range s {
 		switch {
-		case i == 0 && !isPNCharsU(r) && !isDigit(r):
+		case i == 0 && !IsPNCharsU(r) && !isDigit(r):
 			return false
-		case i > 0 && r != '.' && !isPNChars(r):
+		case i > 0 && r != '.' && !IsPNChars(r):
 			return false
 		}
 	}
@@ -135,7 +135,7 @@ func isBlankLabel(s string) bool {
 func WriteTurtle(w io.Writer, triples []Triple, prefixes []Prefix) error {
 	tw := &turtleWriter{w: bufio.NewWriter(w), prefixes: map[string]string{}}
 	for _, p := range prefixes {
-		if p.Name != "" && !isPrefixName(p.Name) {
+		if p.Name != "" && !IsPrefixName(p.Name) {
 			return fmt.Errorf("writing Turtle: %q is not a valid prefix name", p.Name)
 		}
 		if _, dup := tw.prefixes[p.Name]; !dup {
@@ -245,7 +245,7 @@ func (tw *turtleWriter) iri(i IRI) string {
 		if !ok || (found && len(ns) <= len(tw.prefixes[best])) {
 			continue
 		}
-		if isLocalName(rest) {
+		if IsLocalName(rest) {
 			best, bestLocal, found = name, rest, true
 		}
 	}
@@ -255,19 +255,19 @@ func (tw *turtleWriter) iri(i IRI) string {
 	return i.String()
 }
 
-// isLocalName reports whether s can be written as a PN_LOCAL without backslash
+// IsLocalName reports whether s can be written as a PN_LOCAL without backslash
 // escapes (prefixed names with escapes are valid but hard to read; such IRIs are
 // written in full instead):
 //
 //	PN_LOCAL ::= (PN_CHARS_U | ':' | [0-9] | PLX) ((PN_CHARS | '.' | ':' | PLX)* (PN_CHARS | ':' | PLX))?
-func isLocalName(s string) bool {
+func IsLocalName(s string) bool {
 	last := len(s) - 1
 	for i, r := range s {
 		switch {
-		case r == ':' || isPNCharsU(r) || isDigit(r):
+		case r == ':' || IsPNCharsU(r) || isDigit(r):
 		case r == '%' && i+2 <= last && hexValue(rune(s[i+1])) >= 0 && hexValue(rune(s[i+2])) >= 0:
 		case r == '.' && i > 0 && i < last:
-		case i > 0 && isPNChars(r):
+		case i > 0 && IsPNChars(r):
 		default:
 			return false
 		}
@@ -275,18 +275,18 @@ func isLocalName(s string) bool {
 	return true
 }
 
-// isPrefixName reports whether s matches PN_PREFIX:
+// IsPrefixName reports whether s matches PN_PREFIX:
 //
 //	PN_PREFIX ::= PN_CHARS_BASE ((PN_CHARS | '.')* PN_CHARS)?
-func isPrefixName(s string) bool {
+func IsPrefixName(s string) bool {
 	if strings.HasSuffix(s, ".") {
 		return false
 	}
 	for i, r := range s {
 		switch {
-		case i == 0 && !isPNCharsBase(r):
+		case i == 0 && !IsPNCharsBase(r):
 			return false
-		case i > 0 && r != '.' && !isPNChars(r):
+		case i > 0 && r != '.' && !IsPNChars(r):
 			return false
 		}
 	}

@@ -2,6 +2,7 @@ package rdf
 
 import (
 	"bytes"
+	"errors"
 	"flag"
 	"os"
 	"path/filepath"
@@ -213,13 +214,21 @@ func TestResolveIRI(t *testing.T) {
 		"http:g": "http:g",
 	}
 	for ref, want := range tests {
-		got, err := resolveIRI(base, ref)
+		got, err := ResolveIRI(base, ref)
 		if err != nil || got != want {
 			t.Errorf("resolve %q: got %q, %v; want %q", ref, got, err, want)
 		}
 	}
-	if _, err := resolveIRI("", "g"); err == nil {
-		t.Error("resolving a relative IRI without a base: want an error")
+	if _, err := ResolveIRI("", "g"); !errors.Is(err, ErrNoBase) {
+		t.Errorf("resolving a relative IRI without a base: got %v, want ErrNoBase", err)
+	}
+	// Our choices, with no source: a base must be absolute, and "1a:b" is not
+	// a scheme (RFC 3986 §3.1: a scheme starts with a letter), so it is a path.
+	if _, err := ResolveIRI("a/b", "g"); err == nil {
+		t.Error("resolving against the relative base a/b: want an error")
+	}
+	if got, err := ResolveIRI(base, "1a:b"); err != nil || got != "http://a/b/c/1a:b" {
+		t.Errorf("resolve %q: got %q, %v; want %q", "1a:b", got, err, "http://a/b/c/1a:b")
 	}
 }
 

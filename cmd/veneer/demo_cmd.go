@@ -9,9 +9,11 @@ import (
 	"os"
 	"path/filepath"
 
+	"veneer/catalog"
 	"veneer/catalog/r2rml"
 	"veneer/catalog/source"
 	"veneer/cmd/veneer/demo"
+	"veneer/server/console"
 )
 
 // demoQuery is the query the demo suggests first.
@@ -20,9 +22,12 @@ const demoQuery = `SELECT ?s ?p ?o WHERE { ?s ?p ?o } LIMIT 10`
 func runDemo(ctx context.Context, args []string, stdout, stderr io.Writer) error {
 	fs := flag.NewFlagSet("demo", flag.ContinueOnError)
 	fs.SetOutput(stderr)
-	listen := fs.String("listen", defaultListen, "address to serve HTTP on")
-	if err := fs.Parse(args); err != nil {
+	c, rest, err := loadConfig("demo", args, os.Getenv, false, fs)
+	if err != nil {
 		return err
+	}
+	if len(rest) > 0 {
+		return fmt.Errorf("demo: unexpected argument %q", rest[0])
 	}
 	dir, err := os.MkdirTemp("", "veneer-demo-")
 	if err != nil {
@@ -33,19 +38,38 @@ func runDemo(ctx context.Context, args []string, stdout, stderr io.Writer) error
 	if err := demo.BuildSQLite(ctx, path); err != nil {
 		return fmt.Errorf("building the demo database: %w", err)
 	}
-	cat, err := r2rml.Load("demo/mapping.ttl", []byte(demo.Mapping()))
-	if err != nil {
-		return fmt.Errorf("loading the demo mapping: %w", err)
-	}
 	src, err := source.Open(ctx, "sqlite:"+path)
 	if err != nil {
 		return err
 	}
 	defer src.Close()
-	return serve(ctx, src, cat, *listen, stdout, stderr, func(addr string) {
-		endpoint := "http://" + addr + "/sparql"
-		fmt.Fprintf(stdout, "veneer demo: a wind-farm maintenance database, served as SPARQL at\n  %s\n\n", endpoint)
+	return serve(ctx, c, src, demoCatalog, demoPage(), stderr, func(addr string) {
+		scheme := "http"
+		if c.TLS.Cert != "" {
+			scheme = "https"
+		}
+		endpoint := scheme + "://" + addr + "/sparql"
+		fmt.Fprintf(stdout, "veneer demo: a wind-farm maintenance database, served as SPARQL at\n  %s\n", endpoint)
+		fmt.Fprintf(stdout, "and with a query page at\n  %s://%s/\n\n", scheme, addr)
 		fmt.Fprintf(stdout, "try:\n  curl -s '%s?query=%s'\n\n", endpoint, url.QueryEscape(demoQuery))
 		fmt.Fprintln(stdout, "press Ctrl-C to stop")
 	})
+}
+
+// demoCatalog loads the demo's embedded mapping.
+func demoCatalog(context.Context) (*catalog.Catalog, error) {
+	cat, err := r2rml.Load("demo/mapping.ttl", []byte(demo.Mapping()))
+	if err != nil {
+		return nil, fmt.Errorf("loading the demo mapping: %w", err)
+	}
+	return cat, nil
+}
+
+// demoPage offers the demo's example queries on the query page.
+func demoPage() console.Options {
+	o := console.Options{Title: "veneer · wind-farm demo"}
+	for _, q := range demo.Queries() {
+		o.Examples = append(o.Examples, console.Example{Name: q.Summary, Query: q.Text})
+	}
+	return o
 }

@@ -20,9 +20,9 @@ import (
 	"github.com/jackc/pgx/v5"
 	_ "modernc.org/sqlite"
 
-	"veneer/catalog/r2rml"
 	"veneer/catalog/source"
 	"veneer/cmd/veneer/demo"
+	"veneer/server/console"
 )
 
 // The end-to-end test starts veneer on a free port over the demo database, sends
@@ -186,14 +186,12 @@ func endToEnd(t *testing.T, dsn string, want any) {
 		t.Fatal(err)
 	}
 	defer src.Close()
-	cat, err := r2rml.Load("mapping.ttl", []byte(demo.Mapping()))
-	if err != nil {
-		t.Fatal(err)
-	}
+	cfg := defaultConfig()
+	cfg.Listen = "127.0.0.1:0"
 	addrc := make(chan string, 1)
 	done := make(chan error, 1)
 	go func() {
-		done <- serve(ctx, src, cat, "127.0.0.1:0", io.Discard, testLog{t}, func(a string) { addrc <- a })
+		done <- serve(ctx, &cfg, src, demoCatalog, console.Options{}, testLog{t}, func(a string) { addrc <- a })
 	}()
 	var addr string
 	select {

@@ -1,8 +1,12 @@
 // Command veneer publishes a relational database as a SPARQL endpoint, rewriting
 // each query into SQL over the live tables through an R2RML mapping.
 //
-//	veneer demo  [--listen ADDR]
-//	veneer serve --db DSN --mapping FILE [--mapping FILE]... [--listen ADDR]
+//	veneer demo    [--listen ADDR] [--config FILE] [options]
+//	veneer serve   --db DSN [--mapping FILE]... [--listen ADDR] [--config FILE] [options]
+//	veneer explain --db DSN [--mapping FILE]... QUERY|@FILE
+//
+// Every option of serve can also come from a YAML file (--config) and from an
+// environment variable; "veneer serve -h" lists them.
 package main
 
 import (
@@ -40,8 +44,10 @@ func oneLine(s string) string {
 }
 
 const usage = `usage:
-  veneer demo  [--listen ADDR]
-  veneer serve --db DSN --mapping FILE [--mapping FILE]... [--listen ADDR]
+  veneer demo    [--listen ADDR] [--config FILE] [options]
+  veneer serve   --db DSN [--mapping FILE]... [--listen ADDR] [--config FILE] [options]
+  veneer explain --db DSN [--mapping FILE]... QUERY|@FILE
+run "veneer serve -h" for the options
 `
 
 func run(ctx context.Context, args []string, stdout, stderr io.Writer) error {
@@ -54,6 +60,8 @@ func run(ctx context.Context, args []string, stdout, stderr io.Writer) error {
 		return runDemo(ctx, args[1:], stdout, stderr)
 	case "serve":
 		return runServe(ctx, args[1:], stdout, stderr)
+	case "explain":
+		return runExplain(ctx, args[1:], stdout, stderr)
 	case "help", "-h", "--help":
 		fmt.Fprint(stdout, usage)
 		return nil
@@ -61,9 +69,3 @@ func run(ctx context.Context, args []string, stdout, stderr io.Writer) error {
 	fmt.Fprint(stderr, usage)
 	return fmt.Errorf("unknown subcommand %q", args[0])
 }
-
-// multiFlag collects a repeatable string flag.
-type multiFlag []string
-
-func (m *multiFlag) String() string     { return strings.Join(*m, ",") }
-func (m *multiFlag) Set(v string) error { *m = append(*m, v); return nil }

@@ -8,83 +8,189 @@ import (
 	"io"
 	"log/slog"
 	"net"
-	"net/http"
+	"os"
+	"os/signal"
+	"syscall"
 	"time"
 
 	"github.com/prometheus/client_golang/prometheus"
 	"github.com/prometheus/client_golang/prometheus/collectors"
 
 	"veneer/catalog"
+	"veneer/catalog/direct"
 	"veneer/catalog/r2rml"
 	"veneer/catalog/source"
 	"veneer/rewrite"
 	"veneer/rewrite/exec"
 	"veneer/server"
+	"veneer/server/console"
 )
 
 const defaultListen = "127.0.0.1:7531"
 
+// defaultBase is the base IRI of the Direct Mapping when none is given.
+const defaultBase = "http://veneer.example/db/"
+
 func runServe(ctx context.Context, args []string, stdout, stderr io.Writer) error {
 	fs := flag.NewFlagSet("serve", flag.ContinueOnError)
 	fs.SetOutput(stderr)
-	dsn := fs.String("db", "", "database DSN: postgres://…, mysql://… or sqlite:PATH")
-	listen := fs.String("listen", defaultListen, "address to serve HTTP on")
-	var mappings multiFlag
-	fs.Var(&mappings, "mapping", "R2RML mapping file (repeatable)")
-	if err := fs.Parse(args); err != nil {
-		return err
-	}
-	if *dsn == "" {
-		return errors.New("serve: --db is required")
-	}
-	if len(mappings) == 0 {
-		return errors.New("serve: --mapping is required")
-	}
-	cat, err := r2rml.LoadFiles(mappings...)
+	c, rest, err := loadConfig("serve", args, os.Getenv, true, fs)
 	if err != nil {
 		return err
 	}
-	src, err := source.Open(ctx, *dsn)
+	if len(rest) > 0 {
+		return fmt.Errorf("serve: unexpected argument %q", rest[0])
+	}
+	sc := c.source()
+	if sc.DB == "" {
+		return errors.New("serve: a database is required: --db, VENEER_DB or sources[0].db in the configuration")
+	}
+	src, err := openSource(ctx, sc)
 	if err != nil {
 		return err
 	}
 	defer src.Close()
-	return serve(ctx, src, cat, *listen, stdout, stderr, nil)
+	load := func(ctx context.Context) (*catalog.Catalog, error) { return loadCatalog(ctx, src, sc.Mappings, c.Base) }
+	return serve(ctx, c, src, load, console.Options{}, stderr, nil)
 }
 
-// serve probes the catalog against the source and serves it until ctx ends. ready,
-// when set, is called with the listening address once the server accepts.
-func serve(ctx context.Context, src source.Source, cat *catalog.Catalog, listen string, stdout, stderr io.Writer, ready func(addr string)) error {
+// openSource opens the configured database.
+func openSource(ctx context.Context, sc *sourceConf) (source.Source, error) {
+	var opts []source.Option
+	if sc.MaxConns > 0 {
+		opts = append(opts, source.MaxConns(sc.MaxConns))
+	}
+	return source.Open(ctx, sc.DB, opts...)
+}
+
+// loadCatalog reads the R2RML mappings, or builds the Direct Mapping of the
+// source's schema when there are none.
+func loadCatalog(ctx context.Context, src source.Source, mappings []string, base string) (*catalog.Catalog, error) {
+	if len(mappings) > 0 {
+		return r2rml.LoadFiles(mappings...)
+	}
+	if base == "" {
+		base = defaultBase
+	}
+	schema, err := source.Introspect(ctx, src, "")
+	if err != nil {
+		return nil, fmt.Errorf("reading the schema for the Direct Mapping: %w", err)
+	}
+	return direct.Map(schema, base)
+}
+
+// newEngine checks the catalog against the source's columns and builds the
+// query engine over them.
+func newEngine(ctx context.Context, src source.Source, cat *catalog.Catalog) (*exec.Engine, error) {
 	probeCtx, cancel := context.WithTimeout(ctx, 30*time.Second)
+	defer cancel()
 	cols, err := catalog.ProbeColumns(probeCtx, src, cat)
-	cancel()
+	if err != nil {
+		return nil, err
+	}
+	return &exec.Engine{Planner: rewrite.NewPlanner(cat, cols, src.Dialect()), Source: src}, nil
+}
+
+// newLogger makes the structured logger the configuration asks for.
+func newLogger(c *config, w io.Writer) *slog.Logger {
+	level, _ := c.level() // checked by loadConfig
+	opts := &slog.HandlerOptions{Level: level}
+	if c.Log.Format == "text" {
+		return slog.New(slog.NewTextHandler(w, opts))
+	}
+	return slog.New(slog.NewJSONHandler(w, opts))
+}
+
+// serverConfig turns the configuration into the server's settings.
+func (c *config) serverConfig() server.Config {
+	return server.Config{
+		Limits: server.Limits{
+			QueryTimeout:  c.Limits.QueryTimeout,
+			MaxConcurrent: c.Limits.MaxConcurrent,
+			MaxQueued:     c.Limits.MaxQueued,
+			QueueTimeout:  c.Limits.QueueTimeout,
+			MaxQueryBytes: c.Limits.MaxQueryBytes,
+			MaxBodyBytes:  c.Limits.MaxBodyBytes,
+			MaxRows:       c.Limits.MaxRows,
+		},
+		TrustForwarded: c.TrustForwarded,
+		CORSOrigins:    c.CORS.Origins,
+		SlowQuery:      c.Log.SlowQuery,
+		DrainTimeout:   c.DrainTimeout,
+		TLSCert:        c.TLS.Cert,
+		TLSKey:         c.TLS.Key,
+	}
+}
+
+// serve builds the engine from the catalog load returns and serves it until
+// ctx ends. On SIGHUP it reloads the catalog (keeping the one in service if
+// the new one is invalid) and the tokens. ready, when set, is called with the
+// listening address once the server accepts.
+func serve(ctx context.Context, c *config, src source.Source, load func(context.Context) (*catalog.Catalog, error),
+	page console.Options, stderr io.Writer, ready func(addr string)) error {
+	log := newLogger(c, stderr)
+	engineOf := func(ctx context.Context) (server.Engine, *catalog.Catalog, error) {
+		cat, err := load(ctx)
+		if err != nil {
+			return nil, nil, err
+		}
+		e, err := newEngine(ctx, src, cat)
+		if err != nil {
+			return nil, nil, err
+		}
+		return server.FromExec(e), cat, nil
+	}
+	build := func(ctx context.Context) (server.Engine, error) {
+		e, _, err := engineOf(ctx)
+		return e, err
+	}
+	engine, cat, err := engineOf(ctx)
 	if err != nil {
 		return err
 	}
-	engine := &exec.Engine{Planner: rewrite.NewPlanner(cat, cols, src.Dialect()), Source: src}
+	tokens, err := c.tokens(os.Getenv)
+	if err != nil {
+		return err
+	}
+	scfg := c.serverConfig()
+	scfg.Tokens, scfg.Reload, scfg.Console = tokens, build, page
 	reg := prometheus.NewRegistry()
 	reg.MustRegister(collectors.NewGoCollector(), collectors.NewProcessCollector(collectors.ProcessCollectorOpts{}))
-	log := slog.New(slog.NewTextHandler(stderr, nil))
-	srv := server.New(server.DefaultConfig(), server.FromExec(engine), log, reg, reg)
-
-	ln, err := net.Listen("tcp", listen)
+	srv, err := server.New(scfg, engine, log, reg, reg)
 	if err != nil {
-		return fmt.Errorf("listening on %s: %w", listen, err)
+		return err
 	}
-	hs := &http.Server{Handler: srv.Handler(), ReadHeaderTimeout: 10 * time.Second}
-	errc := make(chan error, 1)
-	go func() { errc <- hs.Serve(ln) }()
+	ln, err := net.Listen("tcp", c.Listen)
+	if err != nil {
+		return fmt.Errorf("listening on %s: %w", c.Listen, err)
+	}
+	hup := make(chan os.Signal, 1)
+	signal.Notify(hup, syscall.SIGHUP)
+	defer signal.Stop(hup)
+	go func() {
+		for {
+			select {
+			case <-hup:
+				srv.Reload(ctx) // logs and counts its own failure
+				if toks, err := c.tokens(os.Getenv); err != nil {
+					log.Error("reloading the tokens failed; the tokens in force stay", "err", err)
+				} else {
+					srv.SetTokens(toks)
+				}
+			case <-ctx.Done():
+				return
+			}
+		}
+	}()
+	scheme := "http"
+	if c.TLS.Cert != "" {
+		scheme = "https"
+	}
 	addr := ln.Addr().String()
-	log.Info("serving", "url", "http://"+addr+"/sparql", "maps", len(cat.Maps), "dialect", src.Dialect().String())
+	log.Info("serving", "url", scheme+"://"+addr+"/sparql", "maps", len(cat.Maps), "dialect", src.Dialect().String(),
+		"auth", tokens.Len() > 0)
 	if ready != nil {
 		ready(addr)
 	}
-	select {
-	case err := <-errc:
-		return err
-	case <-ctx.Done():
-	}
-	shutdownCtx, cancel := context.WithTimeout(context.Background(), 10*time.Second)
-	defer cancel()
-	return hs.Shutdown(shutdownCtx)
+	return srv.Serve(ctx, ln)
 }

@@ -1,6 +1,8 @@
-// Package exec runs plans: it sends a plan's SQL to the source, decodes each row
-// into RDF terms, applies the residual operators (filters, distinct, slice) with
-// SPARQL's semantics, and hands out solutions through a cursor.
+// Package exec runs plans: it sends the SQL of a plan's scans to the source,
+// decodes each row into RDF terms, evaluates the in-process operators of the
+// plan (rewrite.Op) with SPARQL's semantics (§18.5), including the whole
+// expression language of §17, and hands out the result of the query form
+// through a cursor.
 package exec
 
 import (
@@ -8,224 +10,394 @@ import (
 	"fmt"
 	"strings"
 
-	"veneer/catalog"
 	"veneer/catalog/rdf"
 	"veneer/catalog/source"
 	"veneer/rewrite"
 	"veneer/rewrite/algebra"
 )
 
-// Cursor iterates over the solutions of a plan, like database/sql.Rows.
+// Cursor iterates over the result of a plan, like database/sql.Rows.
+//
+// What Next advances over depends on the query form (Form):
+//   - SELECT: solutions; Solution returns the current one, in Vars order.
+//   - ASK: nothing; Boolean holds the answer as soon as Run returns (Run reads
+//     at most one solution, then stops the SQL).
+//   - CONSTRUCT and DESCRIBE: triples; Triple returns the current one. The
+//     result is a graph, so a triple is yielded once (up to
+//     Options.MaxBuffered distinct triples are remembered for that; past it,
+//     repeats can occur, which leaves the graph the same).
+//
+// A cursor is used by one goroutine at a time and must be closed.
 type Cursor struct {
-	ctx  context.Context
-	plan *rewrite.Plan
-	rows source.Rows
-	// internal holds the decoded terms of the plan's slots; out the result solution.
-	internal map[algebra.Var]rdf.Term
-	out      []rdf.Term
-	seen     map[string]struct{}
-	skipped  int64
-	emitted  int64
-	err      error
-	done     bool
+	r    *run
+	form algebra.Form
+	vars []string
+	proj []int // the layout slot of each result variable
+
+	root    iterator
+	cur     []rdf.Term
+	triples tripleSource
+	triple  rdf.Triple
+	answer  bool
+
+	err  error
+	done bool
 }
 
-// Run starts a plan on src. The context governs the whole iteration: cancelling it
-// cancels the SQL statement.
+// Run starts a plan on src with the default Options.
 func Run(ctx context.Context, src source.Source, p *rewrite.Plan) (*Cursor, error) {
-	for _, f := range p.Filters {
-		if err := Supported(f); err != nil {
-			return nil, &Error{Kind: BadQuery, Err: err}
-		}
+	return Options{}.Run(ctx, src, p)
+}
+
+// Run starts a plan on src. The context governs the whole iteration:
+// cancelling it cancels the SQL statement that is running.
+func (o Options) Run(ctx context.Context, src source.Source, p *rewrite.Plan) (*Cursor, error) {
+	var pp patternPlanner
+	if p.Planner != nil {
+		pp = p.Planner
 	}
-	c := &Cursor{ctx: ctx, plan: p, internal: map[algebra.Var]rdf.Term{}, out: make([]rdf.Term, len(p.Vars))}
-	if p.Distinct {
-		c.seen = map[string]struct{}{}
-	}
-	if p.Stmt == nil {
-		c.done = true
-		return c, nil
-	}
-	rows, err := src.Query(ctx, p.SQL, p.Args...)
+	return start(ctx, src, pp, p, o)
+}
+
+// start runs a plan with the given pattern planner (tests pass their own).
+func start(ctx context.Context, src source.Source, pp patternPlanner, p *rewrite.Plan, o Options) (*Cursor, error) {
+	r, err := newRun(ctx, src, pp, o)
 	if err != nil {
-		return nil, fmt.Errorf("running the query's SQL: %w", err)
+		return nil, err
 	}
-	c.rows = rows
+	b := newBuilder(r)
+	root, err := b.build(p.Root)
+	if err != nil {
+		return nil, err
+	}
+	c := &Cursor{r: r, form: p.Form, root: root.it}
+	switch p.Form {
+	case algebra.Select:
+		for _, v := range p.Vars {
+			c.vars = append(c.vars, string(v))
+			c.proj = append(c.proj, b.l.slot(v))
+		}
+		c.cur = make([]rdf.Term, len(p.Vars))
+	case algebra.Ask:
+		sol, err := c.root.next()
+		c.root.close()
+		c.done = true
+		if err != nil {
+			return nil, err
+		}
+		c.answer = sol != nil
+	case algebra.Construct:
+		c.triples = newConstructSource(r, b.l, c.root, p.Template)
+	case algebra.Describe:
+		if c.triples, err = newDescribeSource(r, b.l, c.root, p.Describe); err != nil {
+			c.root.close()
+			return nil, err
+		}
+	default:
+		c.root.close()
+		return nil, fmt.Errorf("plan has an unknown query form %d", p.Form)
+	}
 	return c, nil
 }
 
-// Vars names the result variables, in the order of Solution's terms.
-func (c *Cursor) Vars() []string {
-	names := make([]string, len(c.plan.Vars))
-	for i, v := range c.plan.Vars {
-		names[i] = string(v)
-	}
-	return names
-}
+// Form returns the query form, which says what Next iterates over.
+func (c *Cursor) Form() algebra.Form { return c.form }
 
-// Next advances to the next solution.
+// Vars names the result variables of SELECT, in the order of Solution's
+// terms; it is empty for the other forms.
+func (c *Cursor) Vars() []string { return c.vars }
+
+// Next advances to the next solution (SELECT) or triple (CONSTRUCT and
+// DESCRIBE); it returns false at the end, on error (see Err), and always for
+// ASK.
 func (c *Cursor) Next() bool {
 	if c.done || c.err != nil {
 		return false
 	}
-	for {
-		if c.plan.Limit >= 0 && c.emitted >= c.plan.Limit {
-			c.finish()
-			return false
-		}
-		if !c.rows.Next() {
-			if err := c.rows.Err(); err != nil {
-				c.err = classify(c.ctx, fmt.Errorf("reading the query's rows: %w", err))
+	var err error
+	ok := false
+	switch c.form {
+	case algebra.Select:
+		var sol []rdf.Term
+		if sol, err = c.root.next(); sol != nil {
+			for i, s := range c.proj {
+				c.cur[i] = sol[s]
 			}
-			c.finish()
-			return false
+			ok = true
 		}
-		ok, err := c.decode(c.rows.Values())
-		if err != nil {
-			c.err = err
-			c.finish()
-			return false
-		}
-		if !ok {
-			continue
-		}
-		if c.seen != nil {
-			key := solutionKey(c.out)
-			if _, dup := c.seen[key]; dup {
-				continue
-			}
-			c.seen[key] = struct{}{}
-		}
-		if c.skipped < c.plan.Offset {
-			c.skipped++
-			continue
-		}
-		c.emitted++
-		return true
+	case algebra.Construct, algebra.Describe:
+		c.triple, ok, err = c.triples.next()
 	}
+	if err != nil {
+		c.err = c.r.fail(err)
+	}
+	if !ok {
+		c.Close()
+	}
+	return ok
 }
 
-func (c *Cursor) finish() {
-	c.done = true
-	if c.rows != nil {
-		c.rows.Close()
-	}
-}
+// Solution returns the current solution of SELECT: one term per result
+// variable, nil where unbound. The slice is reused by the next call to Next.
+func (c *Cursor) Solution() []rdf.Term { return c.cur }
 
-// decode fills the solution from a row; false means the row yields no solution
-// (a failed check or filter).
-func (c *Cursor) decode(row []any) (bool, error) {
-	clear(c.internal)
-	terms := make([]rdf.Term, len(c.plan.Slots))
-	for i, s := range c.plan.Slots {
-		for _, g := range s.Groups {
-			if t := BuildTerm(g, row); t != nil {
-				terms[i] = t
-				c.internal[s.Var] = t
-				break
-			}
-		}
-	}
-	for _, ch := range c.plan.Checks {
-		t := BuildTerm(ch.Group, row)
-		if t == nil {
-			continue // the check belongs to another union branch
-		}
-		if !rdf.SameTerm(t, terms[ch.Slot]) {
-			return false, nil
-		}
-	}
-	for _, f := range c.plan.Filters {
-		if !EBVOf(Eval(f, c.internal)) {
-			return false, nil
-		}
-	}
-	for i, v := range c.plan.Vars {
-		c.out[i] = c.internal[v]
-	}
-	return true, nil
-}
+// Triple returns the current triple of CONSTRUCT or DESCRIBE.
+func (c *Cursor) Triple() rdf.Triple { return c.triple }
 
-// Solution returns the current solution: one term per result variable, nil where
-// unbound. The slice is reused by the next call to Next.
-func (c *Cursor) Solution() []rdf.Term { return c.out }
+// Boolean returns the answer of ASK.
+func (c *Cursor) Boolean() bool { return c.answer }
 
-// Err reports the error that ended the iteration.
+// Err reports the error that ended the iteration, if any.
 func (c *Cursor) Err() error { return c.err }
 
-// Close releases the cursor's rows; it is safe to call more than once.
+// Close stops the iteration and releases its SQL statements; it is safe to
+// call more than once.
 func (c *Cursor) Close() error {
 	c.done = true
-	if c.rows != nil {
-		return c.rows.Close()
+	c.root.close()
+	if c.triples != nil {
+		c.triples.close()
 	}
 	return nil
 }
 
-func solutionKey(sol []rdf.Term) string {
-	var b strings.Builder
-	for _, t := range sol {
-		if t != nil {
-			b.WriteString(t.String())
-		}
-		b.WriteByte(0)
-	}
-	return b.String()
+// ResidualEvaluations counts the solutions that in-process operators have
+// taken in so far (a Filter testing one, a join reading one from either side,
+// ORDER BY sorting one, and so on), EXISTS patterns and DESCRIBE lookups
+// included; solutions that only pass from SQL to the result are not counted.
+// It is the measure of work done outside the database: the server adds it to
+// its residual-evaluation metric when the cursor is done. Like the cursor, it
+// is not safe for concurrent use with Next.
+func (c *Cursor) ResidualEvaluations() int64 { return c.r.residual }
+
+// tripleSource yields the triples of CONSTRUCT and DESCRIBE.
+type tripleSource interface {
+	next() (rdf.Triple, bool, error)
+	close()
 }
 
-// BuildTerm builds the term a group's term map yields from a row, or nil when a
-// column it needs is NULL (R2RML §11: no term, so no triple).
-func BuildTerm(g rewrite.Group, row []any) rdf.Term {
-	m := g.Map
-	for _, col := range g.Cols {
-		if row[col] == nil {
-			return nil
-		}
-	}
-	var lexical string
-	switch m.Kind {
-	case catalog.Constant:
-		return m.Constant
-	case catalog.Column:
-		lexical = catalog.Lexical(row[g.Cols[0]], g.Kinds[0])
-		if m.TermType == rdf.KindLiteral && m.Datatype == "" && m.Language == "" {
-			return catalog.NaturalLiteral(row[g.Cols[0]], g.Kinds[0])
-		}
-	case catalog.TemplateMap:
-		values := make(map[string]string, len(g.Cols))
-		for i, name := range m.Template.Columns() {
-			values[name] = catalog.Lexical(row[g.Cols[i]], g.Kinds[i])
-		}
-		lexical = m.Template.Expand(values, m.TermType == rdf.KindIRI)
-	}
-	switch m.TermType {
-	case rdf.KindIRI:
-		return rdf.IRI(lexical)
-	case rdf.KindBlank:
-		return rdf.BlankNode(blankLabel(lexical))
-	}
-	switch {
-	case m.Language != "":
-		return rdf.NewLangString(lexical, m.Language)
-	case m.Datatype != "":
-		return rdf.NewTyped(lexical, m.Datatype)
-	}
-	return rdf.NewString(lexical)
+// tripleSet remembers triples yielded, up to the run's limit.
+type tripleSet struct {
+	limit int
+	seen  map[string]struct{}
+	key   strings.Builder
 }
 
-// blankLabel turns the string a blank node map yields into a label N-Triples
-// accepts: letters and digits stay, every other byte becomes '_' and two hex
-// digits, so distinct strings keep distinct labels.
-func blankLabel(s string) string {
-	const hexDigits = "0123456789abcdef"
-	b := []byte{'b'}
-	for i := 0; i < len(s); i++ {
-		c := s[i]
-		if 'a' <= c && c <= 'z' || 'A' <= c && c <= 'Z' || '0' <= c && c <= '9' {
-			b = append(b, c)
+// fresh reports whether t has not been yielded before, and remembers it.
+func (s *tripleSet) fresh(t rdf.Triple) bool {
+	s.key.Reset()
+	writeTermKey(&s.key, t.S)
+	writeTermKey(&s.key, t.P)
+	writeTermKey(&s.key, t.O)
+	k := s.key.String()
+	if _, dup := s.seen[k]; dup {
+		return false
+	}
+	if len(s.seen) < s.limit {
+		s.seen[k] = struct{}{}
+	}
+	return true
+}
+
+// constructSource instantiates the template for each solution (§16.2).
+type constructSource struct {
+	r        *run
+	in       iterator
+	template []algebra.Triple
+	slots    map[algebra.Var]int
+	set      tripleSet
+	pending  []rdf.Triple
+}
+
+func newConstructSource(r *run, l *layout, in iterator, template []algebra.Triple) *constructSource {
+	c := &constructSource{r: r, in: in, template: template, slots: map[algebra.Var]int{},
+		set: tripleSet{limit: r.limit, seen: map[string]struct{}{}}}
+	for _, t := range template {
+		for _, it := range []algebra.Item{t.S, t.P, t.O} {
+			if v, ok := it.(algebra.Var); ok && !v.Hidden() {
+				c.slots[v] = l.slot(v)
+			}
+		}
+	}
+	return c
+}
+
+func (c *constructSource) next() (rdf.Triple, bool, error) {
+	for len(c.pending) == 0 {
+		sol, err := c.in.next()
+		if err != nil || sol == nil {
+			return rdf.Triple{}, false, err
+		}
+		c.r.residual++
+		c.instantiate(sol)
+	}
+	t := c.pending[0]
+	c.pending = c.pending[1:]
+	return t, true, nil
+}
+
+func (c *constructSource) close() { c.in.close() }
+
+// instantiate adds the template's triples for one solution to pending: a
+// template blank node (a Hidden variable) is a fresh blank node per solution;
+// a triple with an unbound variable, a literal subject or a predicate that is
+// not an IRI is left out, as is a triple yielded before.
+func (c *constructSource) instantiate(sol []rdf.Term) {
+	blanks := map[algebra.Var]rdf.Term{}
+	term := func(it algebra.Item) rdf.Term {
+		switch it := it.(type) {
+		case algebra.Const:
+			return it.Term
+		case algebra.Var:
+			if it.Hidden() {
+				b, ok := blanks[it]
+				if !ok {
+					b = c.r.freshBlank()
+					blanks[it] = b
+				}
+				return b
+			}
+			return sol[c.slots[it]]
+		}
+		return nil
+	}
+	for _, tp := range c.template {
+		t := rdf.Triple{S: term(tp.S), P: term(tp.P), O: term(tp.O)}
+		if t.S == nil || t.P == nil || t.O == nil || t.S.Kind() == rdf.KindLiteral || t.P.Kind() != rdf.KindIRI {
 			continue
 		}
-		b = append(b, '_', hexDigits[c>>4], hexDigits[c&15])
+		if c.set.fresh(t) {
+			c.pending = append(c.pending, t)
+		}
 	}
-	return string(b)
+}
+
+// describeSource yields, for each resource DESCRIBE names (an IRI, or the
+// terms a variable takes in the root's solutions), the triples that have it
+// as subject, found by planning the pattern { resource ?p ?o }. Each resource
+// is described once.
+type describeSource struct {
+	r         *run
+	in        iterator
+	items     []algebra.Item
+	slots     []int
+	described map[string]bool
+	queue     []rdf.Term
+	current   rdf.Term
+	lookup    *node
+	set       tripleSet
+}
+
+func newDescribeSource(r *run, l *layout, in iterator, items []algebra.Item) (*describeSource, error) {
+	if r.planner == nil {
+		return nil, badQuery("DESCRIBE cannot be evaluated: the plan has no planner for the descriptions")
+	}
+	d := &describeSource{r: r, in: in, items: items, described: map[string]bool{},
+		set: tripleSet{limit: r.limit, seen: map[string]struct{}{}}}
+	for _, it := range items {
+		slot := -1
+		if v, ok := it.(algebra.Var); ok {
+			slot = l.slot(v)
+		}
+		d.slots = append(d.slots, slot)
+	}
+	return d, nil
+}
+
+// describeVars are the variables of the lookup pattern; the lookup has its
+// own layout, so they cannot clash with the query's.
+var describeVars = [2]algebra.Var{"p", "o"}
+
+func (d *describeSource) next() (rdf.Triple, bool, error) {
+	for {
+		if d.lookup != nil {
+			sol, err := d.lookup.it.next()
+			if err != nil {
+				return rdf.Triple{}, false, err
+			}
+			if sol != nil {
+				d.r.residual++
+				t := rdf.Triple{S: d.current, P: sol[0], O: sol[1]}
+				if t.P != nil && t.O != nil && d.set.fresh(t) {
+					return t, true, nil
+				}
+				continue
+			}
+			d.lookup.it.close()
+			d.lookup = nil
+		}
+		if len(d.queue) == 0 {
+			if d.in == nil {
+				return rdf.Triple{}, false, nil
+			}
+			sol, err := d.in.next()
+			if err != nil {
+				return rdf.Triple{}, false, err
+			}
+			if sol == nil {
+				d.in.close()
+				d.in = nil
+				continue
+			}
+			d.r.residual++
+			d.enqueue(sol)
+			continue
+		}
+		d.current, d.queue = d.queue[0], d.queue[1:]
+		if err := d.startLookup(d.current); err != nil {
+			return rdf.Triple{}, false, err
+		}
+	}
+}
+
+func (d *describeSource) close() {
+	if d.lookup != nil {
+		d.lookup.it.close()
+		d.lookup = nil
+	}
+	if d.in != nil {
+		d.in.close()
+		d.in = nil
+	}
+}
+
+// enqueue adds the resources one solution names that are not described yet.
+func (d *describeSource) enqueue(sol []rdf.Term) {
+	for i, it := range d.items {
+		var t rdf.Term
+		if d.slots[i] >= 0 {
+			t = sol[d.slots[i]]
+		} else if c, ok := it.(algebra.Const); ok {
+			t = c.Term
+		}
+		if t == nil || t.Kind() == rdf.KindLiteral {
+			continue // a literal is never a subject
+		}
+		var key strings.Builder
+		writeTermKey(&key, t)
+		if d.described[key.String()] {
+			continue
+		}
+		if len(d.described) < d.r.limit {
+			d.described[key.String()] = true
+		}
+		d.queue = append(d.queue, t)
+	}
+}
+
+func (d *describeSource) startLookup(resource rdf.Term) error {
+	pattern := algebra.BGP{Patterns: []algebra.Triple{{S: algebra.Const{Term: resource}, P: describeVars[0], O: describeVars[1]}}}
+	op, err := d.r.planner.PlanPattern(pattern)
+	if err != nil {
+		return fmt.Errorf("planning the description of %s: %w", resource, err)
+	}
+	b := newBuilder(d.r)
+	b.l.slot(describeVars[0])
+	b.l.slot(describeVars[1])
+	n, err := b.build(op)
+	if err != nil {
+		return err
+	}
+	d.lookup = &n
+	return nil
 }

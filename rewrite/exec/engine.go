@@ -12,6 +12,8 @@ import (
 type Engine struct {
 	Planner *rewrite.Planner
 	Source  source.Source
+	// Options tune every run.
+	Options Options
 }
 
 // Query compiles and starts a query. The returned cursor must be closed.
@@ -20,7 +22,7 @@ func (e *Engine) Query(ctx context.Context, text string) (*Cursor, error) {
 	if err != nil {
 		return nil, &Error{Kind: BadQuery, Err: err}
 	}
-	c, err := Run(ctx, e.Source, p)
+	c, err := e.Options.Run(ctx, e.Source, p)
 	if err != nil {
 		return nil, classify(ctx, err)
 	}

@@ -2,6 +2,7 @@ package exec
 
 import (
 	"context"
+	"errors"
 	"fmt"
 	"math/rand/v2"
 	"net/url"
@@ -143,8 +144,13 @@ func (r *run) tooLarge(what string) error {
 // fail gives an error that ends the iteration its kind: planner errors are the
 // query's fault, failures of the source depend on the context.
 func (r *run) fail(err error) error {
-	if _, ok := err.(*rewrite.Unsupported); ok {
+	var unsupported *rewrite.Unsupported
+	var complex *rewrite.TooComplex
+	switch {
+	case errors.As(err, &unsupported):
 		return &Error{Kind: BadQuery, Err: err}
+	case errors.As(err, &complex):
+		return &Error{Kind: TooLarge, Err: err}
 	}
 	return classify(r.ctx, err)
 }

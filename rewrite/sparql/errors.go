@@ -66,8 +66,14 @@ func lineCol(src string, pos Pos) (line, col int) {
 	return line, utf8.RuneCountInString(src[start:p]) + 1
 }
 
-// sourceLine returns the line of src that holds pos, with tabs kept so that the
-// caret lines up, and the padding to put before the caret.
+// Around the position of an error, at most this many characters of a long
+// line are shown before it and after it, so that the message of a query
+// written on one line stays short.
+const shownBefore, shownAfter = 60, 40
+
+// sourceLine returns the line of src that holds pos, or the part of it around
+// pos with "..." where it is cut, with tabs kept so that the caret lines up,
+// and the padding to put before the caret.
 func sourceLine(src string, pos Pos) (text, pad string, ok bool) {
 	p := min(max(int(pos), 0), len(src))
 	start := strings.LastIndexAny(src[:p], "\r\n") + 1
@@ -77,11 +83,20 @@ func sourceLine(src string, pos Pos) (text, pad string, ok bool) {
 	} else {
 		end += p
 	}
-	text = src[start:end]
-	if strings.TrimSpace(text) == "" || !utf8.ValidString(text) {
+	if strings.TrimSpace(src[start:end]) == "" || !utf8.ValidString(src[start:end]) {
 		return "", "", false
 	}
+	var before, after string
+	if n := utf8.RuneCountInString(src[start:p]); n > shownBefore {
+		start = skipRunes(src, start, n-shownBefore)
+		before = "..."
+	}
+	if n := utf8.RuneCountInString(src[p:end]); n > shownAfter {
+		end = skipRunes(src, p, shownAfter)
+		after = "..."
+	}
 	var b strings.Builder
+	b.WriteString(strings.Repeat(" ", len(before)))
 	for _, r := range src[start:p] {
 		if r == '\t' {
 			b.WriteByte('\t')
@@ -89,7 +104,16 @@ func sourceLine(src string, pos Pos) (text, pad string, ok bool) {
 			b.WriteByte(' ')
 		}
 	}
-	return text, b.String(), true
+	return before + src[start:end] + after, b.String(), true
+}
+
+// skipRunes returns the offset n characters after offset at.
+func skipRunes(s string, at, n int) int {
+	for ; n > 0 && at < len(s); n-- {
+		_, w := utf8.DecodeRuneInString(s[at:])
+		at += w
+	}
+	return at
 }
 
 // ErrorList is a list of syntax errors sorted by position. Error shows the

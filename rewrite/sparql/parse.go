@@ -11,22 +11,34 @@ import (
 	"veneer/catalog/rdf"
 )
 
-// maxDepth bounds the nesting of groups, expressions, paths and collections so
-// that hostile input cannot exhaust the stack.
-const maxDepth = 500
+// Parse parses a SPARQL query within the default limits. Relative IRIs are
+// resolved against the query's own BASE declarations only.
+func Parse(text string) (*Query, error) { return ParseWith(text, Options{}) }
 
-// Parse parses a SPARQL query. Relative IRIs are resolved against the query's
-// own BASE declarations only.
-func Parse(text string) (*Query, error) { return ParseBase(text, "") }
+// ParseBase parses a SPARQL query within the default limits, resolving
+// relative IRIs against base (the retrieval IRI of the query) until a BASE
+// declaration replaces it.
+func ParseBase(text, base string) (*Query, error) {
+	return ParseWith(text, Options{Base: base})
+}
 
-// ParseBase parses a SPARQL query, resolving relative IRIs against base (the
-// retrieval IRI of the query) until a BASE declaration replaces it. The error
-// is an ErrorList; for a SPARQL Update request it wraps ErrUpdate.
-func ParseBase(text, base string) (q *Query, err error) {
+// Options say how ParseWith reads a query.
+type Options struct {
+	// Base is the IRI relative IRIs are resolved against until a BASE
+	// declaration replaces it; empty for none.
+	Base string
+	// Limits bound the query; zero fields take the defaults.
+	Limits Limits
+}
+
+// ParseWith parses a SPARQL query as the options say. The error is an
+// ErrorList; for a SPARQL Update request it wraps ErrUpdate, and for a query
+// beyond the limits ErrLimit.
+func ParseWith(text string, opt Options) (q *Query, err error) {
 	p := &parser{
 		src:      text,
-		lex:      newLexer(text),
-		base:     base,
+		base:     opt.Base,
+		lim:      opt.Limits.orDefaults(),
 		prefixes: map[string]rdf.IRI{},
 		bnodes:   map[string]bnodeUse{},
 	}
@@ -39,6 +51,8 @@ func ParseBase(text, base string) (q *Query, err error) {
 			q, err = nil, ErrorList{pe.err}
 		}
 	}()
+	p.checkLength()
+	p.lex = newLexer(text)
 	return p.parseQueryUnit(), nil
 }
 
@@ -65,7 +79,11 @@ type parser struct {
 	nextBGP int
 	// aggOK is set while reading expressions where aggregates may appear.
 	aggOK bool
-	depth int
+	lim   Limits
+	// depth is the nesting level (see Limits.MaxDepth), triples the number of
+	// triple patterns read so far.
+	depth   int
+	triples int
 }
 
 // peekAt returns the token i places ahead (0: the next one) without consuming it.
@@ -106,15 +124,6 @@ func (p *parser) at(pos Pos) string {
 	line, col := lineCol(p.src, pos)
 	return fmt.Sprintf("line %d, column %d", line, col)
 }
-
-func (p *parser) enter(pos Pos) {
-	p.depth++
-	if p.depth > maxDepth {
-		p.fail(pos, "the query nests more than %d levels deep", maxDepth)
-	}
-}
-
-func (p *parser) leave() { p.depth-- }
 
 func (p *parser) isPunct(s string) bool {
 	t := p.peek()
@@ -266,13 +275,6 @@ func (p *parser) expectIRIRef() rdf.IRI {
 	return p.resolve(t)
 }
 
-func (p *parser) resolve(t token) rdf.IRI {
-	if msg := checkIRI(t.val); msg != "" {
-		p.fail(t.pos, "%s", msg)
-	}
-	return rdf.IRI(resolveIRI(p.base, t.val))
-}
-
 // isIRIStart reports whether t starts rule [136] iri.
 func isIRIStart(t token) bool {
 	return t.typ == tokIRI || t.typ == tokPNameNS || t.typ == tokPNameLN
@@ -342,6 +344,7 @@ func (p *parser) parseSelectClause() *SelectClause {
 		s.Star = true
 		return s
 	}
+	base := p.depth
 	for {
 		t := p.peek()
 		switch {
@@ -350,6 +353,7 @@ func (p *parser) parseSelectClause() *SelectClause {
 			continue
 		case t.typ == tokPunct && t.val == "(":
 			p.next()
+			p.enter(t.pos) // each SELECT expression adds an Extend (§18.2.4.4)
 			item := &SelectItem{Pos: t.pos}
 			item.Expr = p.parseAggExpression()
 			if !p.isWord("AS") {
@@ -366,6 +370,7 @@ func (p *parser) parseSelectClause() *SelectClause {
 	if len(s.Items) == 0 {
 		p.unexpected("'*', a variable or (expression AS ?name) after SELECT")
 	}
+	p.depth = base
 	return s
 }
 
@@ -746,14 +751,19 @@ func (p *parser) parseGroupGraphPattern() *GroupPattern {
 // parseGroupGraphPatternSub parses the elements of a group.
 //
 //	[54] GroupGraphPatternSub ::= TriplesBlock? ( GraphPatternNotTriples '.'? TriplesBlock? )*
+//
+// Each element other than triples and FILTER nests the algebra of the group
+// one level deeper (§18.2.2.6), so it counts as a level for the elements after it.
 func (p *parser) parseGroupGraphPatternSub(open Pos) []Pattern {
 	var elems []Pattern
 	bgp := 0          // the basic graph pattern the next triples join; 0 for a new one
 	needsDot := false // a triples block ended without '.'
+	base := p.depth
 	for {
 		t := p.peek()
 		switch {
 		case t.typ == tokPunct && t.val == "}":
+			p.depth = base
 			return elems
 		case startsTriples(t):
 			if needsDot {
@@ -769,6 +779,7 @@ func (p *parser) parseGroupGraphPatternSub(open Pos) []Pattern {
 			e := p.parseGraphPatternNotTriples()
 			if _, ok := e.(*Filter); !ok {
 				bgp = 0
+				p.enter(t.pos)
 			}
 			elems = append(elems, e)
 			p.acceptPunct(".")
@@ -845,13 +856,16 @@ func (p *parser) parseGraphPatternNotTriples() Pattern {
 	t := p.peek()
 	switch {
 	case t.typ == tokPunct:
+		base := p.depth
 		u := &GroupOrUnion{Pos: t.pos, Groups: []*GroupPattern{p.parseGroupGraphPattern()}}
-		for p.acceptWord("UNION") {
+		for p.isWord("UNION") {
+			p.enter(p.next().pos)
 			if !p.isPunct("{") {
 				p.unexpected("'{' after UNION")
 			}
 			u.Groups = append(u.Groups, p.parseGroupGraphPattern())
 		}
+		p.depth = base
 		return u
 	case isWordTok(t, "OPTIONAL"):
 		p.next()
@@ -952,6 +966,7 @@ func (p *parser) parsePropertyListNotEmpty(paths bool) []*Property {
 		}
 		prop := &Property{Pos: p.peek().pos, Verb: p.parseVerb(paths)}
 		for {
+			p.addTriples(p.peek().pos, 1)
 			prop.Objects = append(prop.Objects, p.parseGraphNode(paths))
 			if !p.acceptPunct(",") {
 				break
@@ -994,23 +1009,32 @@ func (p *parser) parseVerb(paths bool) Verb {
 //	[88] Path ::= PathAlternative
 //	[89] PathAlternative ::= PathSequence ( '|' PathSequence )*
 func (p *parser) parsePath() Path {
+	base := p.depth
 	left := p.parsePathSequence()
 	for p.isPunct("|") {
 		pos := p.next().pos
+		p.enter(pos)
 		left = &PathAlternative{Pos: pos, Left: left, Right: p.parsePathSequence()}
 	}
+	p.depth = base
 	return left
 }
 
 // parsePathSequence parses
 //
 //	[90] PathSequence ::= PathEltOrInverse ( '/' PathEltOrInverse )*
+//
+// Each step after the first adds a triple pattern (§18.2.2.4).
 func (p *parser) parsePathSequence() Path {
+	base := p.depth
 	left := p.parsePathEltOrInverse()
 	for p.isPunct("/") {
 		pos := p.next().pos
+		p.enter(pos)
+		p.addTriples(pos, 1)
 		left = &PathSequence{Pos: pos, Left: left, Right: p.parsePathEltOrInverse()}
 	}
+	p.depth = base
 	return left
 }
 
@@ -1119,6 +1143,7 @@ func (p *parser) parseGraphNode(paths bool) GraphNode {
 				if p.peek().typ == tokEOF {
 					p.closeParen(t.pos, "collection")
 				}
+				p.addTriples(p.peek().pos, 2) // rdf:first and rdf:rest (§18.2.2.1)
 				c.Items = append(c.Items, p.parseGraphNode(paths))
 			}
 			p.next()

@@ -9,14 +9,21 @@ import (
 //
 //	[110] Expression ::= ConditionalOrExpression
 //	[111] ConditionalOrExpression ::= ConditionalAndExpression ( '||' ConditionalAndExpression )*
+//
+// Each operator of a chain nests the tree one level deeper, so it counts as a
+// level (Limits.MaxDepth) for the rest of the chain; the same holds in the
+// other rules of binary operators.
 func (p *parser) parseExpression() Expr {
 	p.enter(p.peek().pos)
 	defer p.leave()
+	base := p.depth
 	left := p.parseAnd()
 	for p.isPunct("||") {
 		pos := p.next().pos
+		p.enter(pos)
 		left = &Binary{Pos: pos, Op: "||", Left: left, Right: p.parseAnd()}
 	}
+	p.depth = base
 	return left
 }
 
@@ -25,11 +32,14 @@ func (p *parser) parseExpression() Expr {
 //	[112] ConditionalAndExpression ::= ValueLogical ( '&&' ValueLogical )*
 //	[113] ValueLogical ::= RelationalExpression
 func (p *parser) parseAnd() Expr {
+	base := p.depth
 	left := p.parseRelational()
 	for p.isPunct("&&") {
 		pos := p.next().pos
+		p.enter(pos)
 		left = &Binary{Pos: pos, Op: "&&", Left: left, Right: p.parseRelational()}
 	}
+	p.depth = base
 	return left
 }
 
@@ -62,25 +72,30 @@ func (p *parser) parseRelational() Expr {
 // A signed number right after an operand ("?x -1") is a subtraction or addition
 // of the unsigned number (§19.8 notes).
 func (p *parser) parseAdditive() Expr {
+	base := p.depth
 	left := p.parseMultiplicative()
 	for {
 		t := p.peek()
 		switch {
 		case t.typ == tokPunct && (t.val == "+" || t.val == "-"):
 			p.next()
+			p.enter(t.pos)
 			left = &Binary{Pos: t.pos, Op: t.val, Left: left, Right: p.parseMultiplicative()}
 		case isSignedNumber(t):
 			p.next()
+			p.enter(t.pos)
 			num := numberLiteral(t)
 			num.Pos++
 			num.Value.Lexical = t.val[1:]
 			var right Expr = num
 			for p.isPunct("*") || p.isPunct("/") {
 				op := p.next()
+				p.enter(op.pos)
 				right = &Binary{Pos: op.pos, Op: op.val, Left: right, Right: p.parseUnary()}
 			}
 			left = &Binary{Pos: t.pos, Op: t.val[:1], Left: left, Right: right}
 		default:
+			p.depth = base
 			return left
 		}
 	}
@@ -94,11 +109,14 @@ func isSignedNumber(t token) bool {
 //
 //	[117] MultiplicativeExpression ::= UnaryExpression ( '*' UnaryExpression | '/' UnaryExpression )*
 func (p *parser) parseMultiplicative() Expr {
+	base := p.depth
 	left := p.parseUnary()
 	for p.isPunct("*") || p.isPunct("/") {
 		op := p.next()
+		p.enter(op.pos)
 		left = &Binary{Pos: op.pos, Op: op.val, Left: left, Right: p.parseUnary()}
 	}
+	p.depth = base
 	return left
 }
 

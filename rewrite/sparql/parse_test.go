@@ -2,6 +2,7 @@ package sparql_test
 
 import (
 	"errors"
+	"fmt"
 	"strings"
 	"testing"
 
@@ -147,21 +148,123 @@ SELECT ?t WHERE { ?t a wf:Turbine ; wf:rating -1.5e0 , "x"@en , <site/1> , 'y'^^
 	}
 }
 
-// TestHostileInput checks that deeply nested or degenerate text gives an error
-// rather than exhausting the stack (our limit, common practice for parsers).
+// TestHostileInput checks that deeply nested, long-chained or degenerate text
+// gives an error within the default limits rather than exhausting the stack
+// or the memory of a later stage (our limits, common practice for parsers).
 func TestHostileInput(t *testing.T) {
+	const n = 100000
 	tests := []struct{ src, msg string }{
-		{"SELECT * { FILTER(" + strings.Repeat("(", 100000) + "1" + strings.Repeat(")", 100000) + ") }", "nests more than"},
-		{"SELECT * { " + strings.Repeat("{", 100000) + strings.Repeat("}", 100000) + " }", "nests more than"},
-		{"SELECT * { ?s ?p " + strings.Repeat("(", 100000) + " }", "nests more than"},
-		{"SELECT * { ?s " + strings.Repeat("(", 100000) + "<p>" + " ?o }", "nests more than"},
-		{"SELECT * { ?s ?p " + strings.Repeat("[ <p> ", 100000) + " }", "nests more than"},
-		{"SELECT * { ?s ?p ?o FILTER(?o " + strings.Repeat("< <a", 100000) + ") }", "expected"},
+		{"SELECT * { FILTER(" + strings.Repeat("(", n) + "1" + strings.Repeat(")", n) + ") }", "nests more than 1000 levels"},
+		{"SELECT * { " + strings.Repeat("{", n) + strings.Repeat("}", n) + " }", "nests more than 1000 levels"},
+		{"SELECT * { ?s " + strings.Repeat("(", n) + "<p>" + " ?o }", "nests more than 1000 levels"},
+		{"SELECT * { ?s ?p " + strings.Repeat("[ <p> ", n) + " }", "nests more than 1000 levels"},
+		{"SELECT * { FILTER(1" + strings.Repeat(" + 1", n) + ") }", "nests more than 1000 levels"},
+		{"SELECT * { FILTER(?a" + strings.Repeat(" || ?a && ?b", n) + ") }", "nests more than 1000 levels"},
+		{"SELECT * { ?s <p>" + strings.Repeat("|<p>", n) + " ?o }", "nests more than 1000 levels"},
+		{"SELECT * { {}" + strings.Repeat(" UNION {}", n) + " }", "nests more than 1000 levels"},
+		{"SELECT * { ?s ?p ?o" + strings.Repeat(" OPTIONAL {}", n) + " }", "nests more than 1000 levels"},
+		{"SELECT" + strings.Repeat(" (1 AS ?x)", n) + " {}", "nests more than 1000 levels"},
+		{"SELECT * { ?s ?p " + strings.Repeat("(", n) + " }", "more than 1000 triple patterns"},
+		{"SELECT * { ?s <p>" + strings.Repeat("/<p>", n) + " ?o }", "more than 1000 triple patterns"},
+		{"SELECT * { " + strings.Repeat("?s ?p ?o . ", n) + " }", "more than 1000 triple patterns"},
+		{"SELECT * { ?s ?p ?o } #" + strings.Repeat("x", sparql.DefaultMaxLength), "more than the limit of 1048576 bytes"},
 	}
 	for _, tc := range tests {
 		_, err := sparql.Parse(tc.src)
-		if err == nil || !strings.Contains(err.Error(), tc.msg) {
-			t.Errorf("Parse(%.40q...) = %v, want an error containing %q", tc.src, err, tc.msg)
+		if !errors.Is(err, sparql.ErrLimit) || !strings.Contains(err.Error(), tc.msg) {
+			t.Errorf("Parse(%.40q...) = %.300v, want an error about a limit containing %q", tc.src, err, tc.msg)
 		}
+	}
+	// Degenerate but within the limits: an ordinary syntax error.
+	src := "SELECT * { ?s ?p ?o FILTER(?o " + strings.Repeat("< <a", n) + ") }"
+	if _, err := sparql.Parse(src); err == nil || errors.Is(err, sparql.ErrLimit) || !strings.Contains(err.Error(), "expected") {
+		t.Errorf("Parse(%.40q...) = %.300v, want a syntax error", src, err)
+	}
+}
+
+// TestLimits checks each limit with small values: where the error points and
+// that it wraps ErrLimit, and that a query just within a limit parses. The
+// counting rules are ours (see Limits).
+func TestLimits(t *testing.T) {
+	tests := []struct {
+		name      string
+		lim       sparql.Limits
+		ok, bad   string // ok is within the limit; bad is not
+		line, col int    // where the error for bad points
+		msg       string
+	}{
+		{"length", sparql.Limits{MaxLength: 12},
+			"ASK { }    #", "ASK {\n}    #é", 2, 8, "the query is 14 bytes long, more than the limit of 12 bytes"},
+		{"nested groups", sparql.Limits{MaxDepth: 3},
+			"ASK { { { } } }", "ASK { { { { } } } }", 1, 13, "nests more than 3 levels"},
+		{"a chain of operators", sparql.Limits{MaxDepth: 3},
+			"ASK { FILTER(1 + 2) }", "ASK { FILTER(1 + 2 - 3) }", 1, 20, "nests more than 3 levels"},
+		{"a signed number in a chain", sparql.Limits{MaxDepth: 3},
+			"ASK { FILTER(1 -2) }", "ASK { FILTER(1 -2 * 3) }", 1, 19, "nests more than 3 levels"},
+		{"group elements", sparql.Limits{MaxDepth: 3},
+			"ASK { BIND(1 AS ?a) BIND(2 AS ?b) }", "ASK { BIND(1 AS ?a) BIND(2 AS ?b) BIND(3 AS ?c) }", 1, 46, "nests more than 3 levels"},
+		{"UNION branches", sparql.Limits{MaxDepth: 3},
+			"ASK { {} UNION {} }", "ASK { {} UNION {} UNION {} }", 1, 19, "nests more than 3 levels"},
+		{"SELECT expressions", sparql.Limits{MaxDepth: 3},
+			"SELECT (1 AS ?a) (2 AS ?b) {}", "SELECT (1 AS ?a) (2 AS ?b) (3 AS ?c) {}", 1, 30, "nests more than 3 levels"},
+		{"path alternatives", sparql.Limits{MaxDepth: 3},
+			"ASK { ?s <a>|<b> ?o }", "ASK { ?s <a>|<b>|<c> ?o }", 1, 17, "nests more than 3 levels"},
+		{"collections", sparql.Limits{MaxDepth: 3, MaxTriples: 100},
+			"ASK { ?s ?p ((1)) }", "ASK { ?s ?p (((1))) }", 1, 15, "nests more than 3 levels"},
+		{"objects", sparql.Limits{MaxTriples: 2},
+			"ASK { ?s ?p ?o1 , ?o2 }", "ASK { ?s ?p ?o1 , ?o2 ; ?q ?o3 }", 1, 28, "more than 2 triple patterns"},
+		{"collection members", sparql.Limits{MaxTriples: 3},
+			"ASK { ?s ?p (1) }", "ASK { ?s ?p (1 2) }", 1, 16, "more than 3 triple patterns"},
+		{"path steps", sparql.Limits{MaxTriples: 2},
+			"ASK { ?s <a>/<b> ?o }", "ASK { ?s <a>/<b>/<c> ?o }", 1, 17, "more than 2 triple patterns"},
+		{"CONSTRUCT templates", sparql.Limits{MaxTriples: 2},
+			"CONSTRUCT { ?s ?p ?o } WHERE { ?s ?p ?o }", "CONSTRUCT { ?s ?p ?o . ?o ?p ?s } WHERE { ?s ?p ?o }", 1, 31, "more than 2 triple patterns"},
+	}
+	for _, tc := range tests {
+		opt := sparql.Options{Limits: tc.lim}
+		if _, err := sparql.ParseWith(tc.ok, opt); err != nil {
+			t.Errorf("%s: %q: %v", tc.name, tc.ok, err)
+		}
+		_, err := sparql.ParseWith(tc.bad, opt)
+		var se *sparql.SyntaxError
+		if !errors.As(err, &se) || !errors.Is(err, sparql.ErrLimit) {
+			t.Errorf("%s: %q: got %v, want an error about a limit", tc.name, tc.bad, err)
+			continue
+		}
+		if line, col := se.LineCol(); line != tc.line || col != tc.col || !strings.Contains(se.Msg, tc.msg) {
+			t.Errorf("%s: %q:\n got line %d, column %d: %s\nwant line %d, column %d: ...%s...", tc.name, tc.bad, line, col, se.Msg, tc.line, tc.col, tc.msg)
+		}
+	}
+	// Parse applies the defaults, as do zero fields.
+	nested := func(n int) string { return "ASK " + strings.Repeat("{", n) + strings.Repeat("}", n) }
+	for _, parse := range []func(string) (*sparql.Query, error){
+		sparql.Parse,
+		func(s string) (*sparql.Query, error) { return sparql.ParseWith(s, sparql.Options{Limits: sparql.Limits{MaxTriples: 5}}) },
+	} {
+		if _, err := parse(nested(sparql.DefaultMaxDepth)); err != nil {
+			t.Errorf("%d nested groups: %v", sparql.DefaultMaxDepth, err)
+		}
+		if _, err := parse(nested(sparql.DefaultMaxDepth + 1)); !errors.Is(err, sparql.ErrLimit) {
+			t.Errorf("%d nested groups: got %.100v, want an error about a limit", sparql.DefaultMaxDepth+1, err)
+		}
+	}
+}
+
+// TestLongLine checks that the source shown under an error on a long line is
+// cut around the position, and that the caret still points at it.
+func TestLongLine(t *testing.T) {
+	src := "SELECT * { " + strings.Repeat("?s ?p ?o . ", 200) + "?s ?p } " + strings.Repeat("# comment ", 100)
+	_, err := sparql.Parse(src)
+	lines := strings.Split(fmt.Sprint(err), "\n")
+	if len(lines) != 3 {
+		t.Fatalf("got %q, want a message, a source line and a caret", err)
+	}
+	shown, caret := lines[1], lines[2]
+	if n := len(shown); n > 120 || !strings.HasPrefix(shown, "  ...") || !strings.HasSuffix(shown, "...") {
+		t.Errorf("shown line (%d bytes) is not cut on both sides: %q", n, shown)
+	}
+	at := len(caret) - 1
+	if !strings.HasSuffix(caret, "^") || at >= len(shown) || shown[at:at+1] != "}" {
+		t.Errorf("the caret does not point at the '}':\n%s\n%s", shown, caret)
 	}
 }
