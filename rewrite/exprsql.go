@@ -2,6 +2,7 @@ package rewrite
 
 import (
 	"strconv"
+	"time"
 
 	"veneer/catalog"
 	"veneer/catalog/rdf"
@@ -57,6 +58,8 @@ const (
 	classNumeric
 	classString
 	classBoolean
+	classDate
+	classDateTime // without a time zone on both sides
 )
 
 // exprSQL translates a boolean SPARQL expression into an SQL condition over the
@@ -104,6 +107,26 @@ func (q *query) exprSQL(b *branch, e algebra.Expr) (sql.Expr, bool) {
 			return cond, true
 		}
 		return sql.Binary{Op: "=", L: sql.Int(1), R: sql.Int(1)}, true
+	case "IN", "NOT IN":
+		// §17.4.1.9–10: IN is the disjunction of = tests, NOT IN the conjunction
+		// of != tests, errors included.
+		if len(c.Args) < 2 {
+			return nil, false
+		}
+		op, join := "=", "||"
+		if c.Op == "NOT IN" {
+			op, join = "!=", "&&"
+		}
+		var e algebra.Expr
+		for _, a := range c.Args[1:] {
+			t := algebra.Call{Op: op, Args: []algebra.Expr{c.Args[0], a}}
+			if e == nil {
+				e = t
+			} else {
+				e = algebra.Call{Op: join, Args: []algebra.Expr{e, t}}
+			}
+		}
+		return q.exprSQL(b, e)
 	case "=", "!=", "<", ">", "<=", ">=":
 		if len(c.Args) != 2 {
 			return nil, false
@@ -212,6 +235,19 @@ func (q *query) valueSQL(b *branch, e algebra.Expr) (sql.Expr, class) {
 				return nil, classNone
 			}
 			return sql.Param{Value: v}, classBoolean
+		case rdf.XSDDate:
+			if _, err := time.Parse("2006-01-02", lit.Lexical); err != nil {
+				return nil, classNone
+			}
+			return sql.Param{Value: lit.Lexical}, classDate
+		case rdf.XSDDateTime:
+			t, err := time.Parse("2006-01-02T15:04:05.999999999", lit.Lexical)
+			if err != nil {
+				return nil, classNone // ill-formed, or with a time zone
+			}
+			// The text form every dialect compares with its timestamps; SQLite,
+			// which keeps them as text, compares it character by character.
+			return sql.Param{Value: t.Format("2006-01-02 15:04:05.999999999")}, classDateTime
 		}
 	}
 	return nil, classNone
@@ -225,6 +261,10 @@ func kindClass(k source.TypeKind) class {
 		return classString
 	case source.TypeBoolean:
 		return classBoolean
+	case source.TypeDate:
+		return classDate
+	case source.TypeTimestamp:
+		return classDateTime
 	}
 	return classNone
 }

@@ -131,7 +131,11 @@ func (q *query) aggregate(b *branch, a algebra.Aggregate, whole bool) (sql.Expr,
 	}
 	e, cl := q.valueSQL(b, v)
 	o := bd.alts[0]
-	if cl != classNumeric || (o.cols[0].Kind != source.TypeInteger && o.cols[0].Kind != source.TypeDecimal) {
+	switch k := o.cols[0].Kind; {
+	case cl == classNumeric && (k == source.TypeInteger || k == source.TypeDecimal):
+	case (cl == classDate || cl == classDateTime) && a.Name != "SUM":
+		// Dates and timestamps without a zone order the same in SQL.
+	default:
 		return nil, source.Column{}, false
 	}
 	t := source.Column{DatabaseType: o.cols[0].DatabaseType, Kind: o.cols[0].Kind}

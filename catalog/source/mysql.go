@@ -190,6 +190,10 @@ type driverConn interface {
 	driver.NamedValueChecker
 }
 
+// ansiQuotes adds ANSI_QUOTES to the session's sql_mode, unless it is there.
+const ansiQuotes = `SET SESSION sql_mode = IF(FIND_IN_SET('ANSI_QUOTES', @@SESSION.sql_mode) > 0,
+	@@SESSION.sql_mode, CONCAT_WS(',', NULLIF(@@SESSION.sql_mode, ''), 'ANSI_QUOTES'))`
+
 // idConn is a driver connection that knows its server-side connection id.
 type idConn struct {
 	driverConn
@@ -197,7 +201,7 @@ type idConn struct {
 }
 
 // idConnector makes idConns: it asks each new connection for its id once, and
-// makes the session read-only. Read-only transactions alone are not enough: a
+// makes the session read-only and read double quotes as identifiers. Read-only transactions alone are not enough: a
 // DDL statement commits the transaction it is in and then runs outside it.
 type idConnector struct {
 	driver.Connector
@@ -217,6 +221,13 @@ func (c idConnector) Connect(ctx context.Context) (driver.Conn, error) {
 	if _, err := conn.ExecContext(ctx, "SET SESSION TRANSACTION READ ONLY", nil); err != nil {
 		dc.Close()
 		return nil, fmt.Errorf("make the session read-only: %w", err)
+	}
+	// R2RML views are SQL as the standard writes it, with identifiers in double
+	// quotes (R2RML §5: SQL identifiers); MySQL reads "x" so only under
+	// ANSI_QUOTES. The mode is added to whatever the server or the DSN set.
+	if _, err := conn.ExecContext(ctx, ansiQuotes, nil); err != nil {
+		dc.Close()
+		return nil, fmt.Errorf("set sql_mode ANSI_QUOTES: %w", err)
 	}
 	id, err := connectionID(ctx, conn)
 	if err != nil {

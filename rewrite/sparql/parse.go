@@ -12,12 +12,13 @@ import (
 )
 
 // Parse parses a SPARQL query within the default limits. Relative IRIs are
-// resolved against the query's own BASE declarations only.
+// resolved against the query's own BASE declarations only. The error is as
+// ParseWith's.
 func Parse(text string) (*Query, error) { return ParseWith(text, Options{}) }
 
 // ParseBase parses a SPARQL query within the default limits, resolving
 // relative IRIs against base (the retrieval IRI of the query) until a BASE
-// declaration replaces it.
+// declaration replaces it. The error is as ParseWith's.
 func ParseBase(text, base string) (*Query, error) {
 	return ParseWith(text, Options{Base: base})
 }
