@@ -19,6 +19,8 @@ type Columns struct {
 	// keys holds, per logical table, the column sets (database names) that are
 	// unique and never NULL: a row is determined by the values of any one of them.
 	keys map[string][][]string
+	// foreign holds, per logical table, its foreign key constraints.
+	foreign map[string][]source.ForeignKey
 }
 
 // Key identifies a logical table: its name, or its query text for a view.
@@ -49,7 +51,8 @@ func ProbeColumns(ctx context.Context, src source.Source, cat *Catalog) (*Column
 // fit. The columns of the tables that could be read are returned even when
 // there are problems.
 func Check(ctx context.Context, src source.Source, cat *Catalog) (*Columns, ErrorList) {
-	c := &Columns{tables: map[string][]source.Column{}, keys: map[string][][]string{}}
+	c := &Columns{tables: map[string][]source.Column{}, keys: map[string][][]string{},
+		foreign: map[string][]source.ForeignKey{}}
 	// The schema names the tables a missing one could have been meant as, and
 	// gives the keys, which make the planner's SQL simpler (no DISTINCT, no
 	// self-joins); without it every answer is still right, so a schema that
@@ -114,16 +117,36 @@ func (c *Columns) probe(ctx context.Context, src source.Source, t LogicalTable, 
 		return fmt.Errorf("reading the columns of table %s: %w", t.TableName, err)
 	}
 	cols := rows.Columns()
-	// R2RML §5.4: the result of an R2RML view must not have duplicate column names.
-	seen := map[string]bool{}
-	for _, col := range cols {
-		if seen[col.Name] {
-			return fmt.Errorf("the result of the R2RML view has more than one column named %s: name each column once (with AS)", col.Name)
-		}
-		seen[col.Name] = true
+	if name, dup := duplicateColumn(cols, src.Dialect()); dup && t.Query != "" {
+		// R2RML §5.4: the result of an R2RML view must not have duplicate column names.
+		return fmt.Errorf("the result of the R2RML view has more than one column named %s: name each column once (with AS)", name)
 	}
 	c.tables[t.Key()] = cols
 	return nil
+}
+
+// duplicateColumn finds a name that two result columns of a view share.
+// SQLite renames the second of two equal names in a subquery, such as the
+// probe's, to "name:1" (as its query planner does, seen in its source code),
+// so there such a pair counts as a repeat too.
+func duplicateColumn(cols []source.Column, d source.Dialect) (string, bool) {
+	seen := map[string]bool{}
+	for _, col := range cols {
+		if seen[col.Name] {
+			return col.Name, true
+		}
+		seen[col.Name] = true
+	}
+	if d != source.SQLite {
+		return "", false
+	}
+	for _, col := range cols {
+		i := strings.LastIndexByte(col.Name, ':')
+		if i > 0 && seen[col.Name[:i]] && strings.Trim(col.Name[i+1:], "0123456789") == "" && i+1 < len(col.Name) {
+			return col.Name[:i], true
+		}
+	}
+	return "", false
 }
 
 // missingTable reports whether the introspected schema lacks a table that
@@ -197,6 +220,7 @@ func (c *Columns) readSchema(cat *Catalog, schema *source.Schema) {
 			}
 		}
 		c.keys[t.Key()] = keys
+		c.foreign[t.Key()] = table.ForeignKeys
 		cols := c.tables[t.Key()]
 		for i := range cols {
 			tc := table.Column(cols[i].Name)
@@ -210,6 +234,10 @@ func (c *Columns) readSchema(cat *Catalog, schema *source.Schema) {
 		}
 	}
 }
+
+// ForeignKeys returns the foreign key constraints of a logical table that is a
+// base table of the source's current schema; none otherwise.
+func (c *Columns) ForeignKeys(t LogicalTable) []source.ForeignKey { return c.foreign[t.Key()] }
 
 // Keys returns the column sets (as the database names the columns) whose values
 // determine a row of the logical table; none for views and unknown tables.

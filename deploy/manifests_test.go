@@ -40,11 +40,15 @@ const budgetAnnotation = "veneer/db-connection-budget"
 // kustomization is the part of a kustomization file the kit uses, decoded
 // strictly so that a misspelt field is an error rather than ignored.
 type kustomization struct {
-	APIVersion         string `json:"apiVersion"`
-	Kind               string `json:"kind"`
-	Namespace          string `json:"namespace,omitempty"`
-	Resources          []string
-	Images             []struct{ Name, NewName, NewTag string } `json:"images,omitempty"`
+	APIVersion string   `json:"apiVersion"`
+	Kind       string   `json:"kind"`
+	Namespace  string   `json:"namespace,omitempty"`
+	Resources  []string `json:"resources,omitempty"`
+	Images     []struct {
+		Name    string `json:"name"`
+		NewName string `json:"newName"`
+		NewTag  string `json:"newTag"`
+	} `json:"images,omitempty"`
 	ConfigMapGenerator []struct {
 		Name     string   `json:"name"`
 		Behavior string   `json:"behavior,omitempty"`
@@ -461,9 +465,13 @@ func checkObjects(t *testing.T, o *objects) {
 		t.Errorf("container %s: preStop is not a %v sleep", c.Name, PreStopSleep)
 	}
 	need := PreStopSleep + DrainTimeout + ShutdownMargin
-	if g := pod.Spec.TerminationGracePeriodSeconds; g == nil || time.Duration(*g)*time.Second < need {
+	grace := time.Duration(0)
+	if g := pod.Spec.TerminationGracePeriodSeconds; g != nil {
+		grace = time.Duration(*g) * time.Second
+	}
+	if grace < need {
 		t.Errorf("pod: terminationGracePeriodSeconds %v, want at least %v (preStop %v + drain %v + margin %v)",
-			g, need, PreStopSleep, DrainTimeout, ShutdownMargin)
+			grace, need, PreStopSleep, DrainTimeout, ShutdownMargin)
 	}
 
 	// Volumes: the ConfigMap at ConfigDir, the Secret's tokens at

@@ -111,7 +111,8 @@ func (q *query) addPattern(b *branch, t algebra.Triple, c candidate, graph algeb
 	child := q.alias("t")
 	b.from = append(b.from, q.fromItem(pr.tm.Table, child))
 	objAlias, objTable := child, pr.tm.Table
-	if pr.parent != nil && len(pr.joins) > 0 {
+	objOcc, viaFK := q.fkObject(pr, child)
+	if pr.parent != nil && len(pr.joins) > 0 && !viaFK {
 		objAlias, objTable = q.alias("t"), pr.parent.Table
 		b.from = append(b.from, q.fromItem(pr.parent.Table, objAlias))
 		for _, j := range pr.joins {
@@ -127,6 +128,9 @@ func (q *query) addPattern(b *branch, t algebra.Triple, c candidate, graph algeb
 		{t.S, q.base(pr.tm.Subject, child, pr.tm.Table)},
 		{t.P, q.base(pr.predicate, child, pr.tm.Table)},
 		{t.O, q.base(pr.object, objAlias, objTable)},
+	}
+	if viaFK {
+		positions[2].occ = objOcc
 	}
 	if c.graph != nil {
 		positions = append(positions, struct {
@@ -349,4 +353,59 @@ func prefixCompatible(a, b catalog.Template) bool {
 	}
 	la, lb := lead(a), lead(b)
 	return strings.HasPrefix(la, lb) || strings.HasPrefix(lb, la)
+}
+
+// fkObject reads a referencing object map's object, the parent's subject, from
+// the child row itself when a foreign key makes the join redundant: the join
+// conditions are exactly the constraint's columns and the parent's subject uses
+// only joined columns, so each child row with non-NULL join columns has exactly
+// one parent row, whose subject is built from values the child row holds.
+// SQLite enforces foreign keys only when asked to, so there the join stays.
+func (q *query) fkObject(pr producer, child string) (occurrence, bool) {
+	if pr.parent == nil || len(pr.joins) == 0 || q.pl.dialect == source.SQLite ||
+		pr.tm.Table.Query != "" || pr.parent.Table.Query != "" {
+		return occurrence{}, false
+	}
+	parentName, err := catalog.ParseName(pr.parent.Table.TableName)
+	if err != nil || len(parentName) != 1 {
+		return occurrence{}, false
+	}
+	dbName := func(t catalog.LogicalTable, c string) string {
+		col, err := q.pl.cols.Lookup(t, c)
+		if err != nil {
+			return ""
+		}
+		return col.Name
+	}
+	pairs := map[string]string{} // parent column (database name) → child column (mapping name)
+	for _, j := range pr.joins {
+		pairs[dbName(pr.parent.Table, j.Parent)] = j.Child
+	}
+	var fkFound bool
+	for _, fk := range q.pl.cols.ForeignKeys(pr.tm.Table) {
+		if !parentName[0].Matches(fk.RefTable) || len(fk.Columns) != len(pr.joins) || len(pairs) != len(pr.joins) {
+			continue
+		}
+		match := true
+		for i, c := range fk.Columns {
+			childCol, ok := pairs[fk.RefColumns[i]]
+			match = match && ok && dbName(pr.tm.Table, childCol) == c
+		}
+		fkFound = fkFound || match
+	}
+	if !fkFound {
+		return occurrence{}, false
+	}
+	subject := pr.parent.Subject
+	o := occurrence{m: subject}
+	for _, c := range subject.Columns() {
+		childCol, ok := pairs[dbName(pr.parent.Table, c)]
+		if !ok {
+			return occurrence{}, false
+		}
+		e, col := q.base(catalog.TermMap{Kind: catalog.Column, Column: childCol}, child, pr.tm.Table).col(childCol)
+		o.exprs = append(o.exprs, e)
+		o.cols = append(o.cols, col)
+	}
+	return o, true
 }

@@ -327,14 +327,14 @@ func (s *sampleAcc) add(t rdf.Term, err error) error {
 
 func (s *sampleAcc) result() (rdf.Term, bool) { return s.value, s.value != nil }
 
-// concatAcc is GroupConcat (§18.5.1.7): CONCAT of the values with the
-// separator between them, so every value must be a string literal; the
-// result keeps a language tag that all values share.
+// concatAcc is GroupConcat (§18.5.1.7): the lexical forms of the values with
+// the separator between them. Every value must be a string literal, as for
+// CONCAT; the result is a simple literal even when the values share a
+// language tag, as the W3C tests agg-groupconcat-4 and -6 expect.
 type concatAcc struct {
 	sep    string
 	b      strings.Builder
 	n      int
-	lang   string
 	failed bool
 }
 
@@ -347,12 +347,6 @@ func (c *concatAcc) add(t rdf.Term, err error) error {
 		c.failed = true
 		return nil
 	}
-	switch {
-	case c.n == 0:
-		c.lang = s.Lang
-	case !strings.EqualFold(c.lang, s.Lang):
-		c.lang = ""
-	}
 	if c.n > 0 {
 		c.b.WriteString(c.sep)
 	}
@@ -364,9 +358,6 @@ func (c *concatAcc) add(t rdf.Term, err error) error {
 func (c *concatAcc) result() (rdf.Term, bool) {
 	if c.failed {
 		return nil, false
-	}
-	if c.lang != "" {
-		return rdf.NewLangString(c.b.String(), c.lang), true
 	}
 	return rdf.NewString(c.b.String()), true
 }

@@ -267,9 +267,73 @@ func readExpected(path string) (expected, error) {
 		if err != nil {
 			return expected{}, err
 		}
-		return expected{graph: doc.Triples()}, nil
+		return readResultGraph(doc.Triples()), nil
 	}
 	return expected{}, errHarness{"reader for " + filepath.Ext(path) + " results"}
+}
+
+// The result-set vocabulary of the DAWG tests (rdf-tests/ns/result-set).
+const (
+	rsNS             = "http://www.w3.org/2001/sw/DataAccess/tests/result-set#"
+	rsResultSet      = rdf.IRI(rsNS + "ResultSet")
+	rsResultVariable = rdf.IRI(rsNS + "resultVariable")
+	rsSolution       = rdf.IRI(rsNS + "solution")
+	rsBinding        = rdf.IRI(rsNS + "binding")
+	rsVariable       = rdf.IRI(rsNS + "variable")
+	rsValue          = rdf.IRI(rsNS + "value")
+	rsIndex          = rdf.IRI(rsNS + "index")
+	rsBoolean        = rdf.IRI(rsNS + "boolean")
+)
+
+// readResultGraph reads a result set written as an rs:ResultSet graph; any
+// other graph is the expected result of CONSTRUCT or DESCRIBE.
+func readResultGraph(triples []rdf.Triple) expected {
+	props := map[rdf.Term]map[rdf.IRI][]rdf.Term{}
+	var set rdf.Term
+	for _, tr := range triples {
+		if props[tr.S] == nil {
+			props[tr.S] = map[rdf.IRI][]rdf.Term{}
+		}
+		p := tr.P.(rdf.IRI)
+		props[tr.S][p] = append(props[tr.S][p], tr.O)
+		if p == rdf.RDFType && tr.O == rsResultSet {
+			set = tr.S
+		}
+	}
+	if set == nil {
+		return expected{graph: triples}
+	}
+	e := expected{}
+	if b := props[set][rsBoolean]; len(b) > 0 {
+		v := b[0].(rdf.Literal).Lexical == "true"
+		e.boolean = &v
+		return e
+	}
+	for _, v := range props[set][rsResultVariable] {
+		e.vars = append(e.vars, v.(rdf.Literal).Lexical)
+	}
+	type indexed struct {
+		row   map[string]rdf.Term
+		index int
+	}
+	var rows []indexed
+	for _, sol := range props[set][rsSolution] {
+		r := indexed{row: map[string]rdf.Term{}}
+		for _, b := range props[sol][rsBinding] {
+			name := props[b][rsVariable][0].(rdf.Literal).Lexical
+			r.row[name] = props[b][rsValue][0]
+		}
+		if ix := props[sol][rsIndex]; len(ix) > 0 {
+			n, _ := numberOf(ix[0])
+			r.index = int(n.small)
+		}
+		rows = append(rows, r)
+	}
+	slices.SortStableFunc(rows, func(a, b indexed) int { return a.index - b.index })
+	for _, r := range rows {
+		e.rows = append(e.rows, r.row)
+	}
+	return e
 }
 
 func readSRX(src []byte) (expected, error) {

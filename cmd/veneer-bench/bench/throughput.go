@@ -1,0 +1,110 @@
+package bench
+
+import (
+	"context"
+	"slices"
+	"sync"
+	"sync/atomic"
+	"time"
+
+	"veneer/cmd/veneer-bench/mix"
+)
+
+// MaxThroughputTime bounds one throughput measurement of one side.
+const MaxThroughputTime = 30 * time.Second
+
+// Throughput is the concurrency measurement of one query.
+type Throughput struct {
+	Query   string  `json:"query"`
+	Clients int     `json:"clients"`
+	Seconds float64 `json:"seconds_per_side"`
+	// VeneerQPS and SQLQPS are answers completed per second; Ratio is
+	// VeneerQPS / SQLQPS.
+	VeneerQPS float64 `json:"veneer_qps"`
+	SQLQPS    float64 `json:"sql_qps"`
+	Ratio     float64 `json:"ratio"`
+	// The latency percentiles of the answers under that load.
+	VeneerP50 Micros `json:"veneer_p50_us"`
+	VeneerP99 Micros `json:"veneer_p99_us"`
+	SQLP50    Micros `json:"sql_p50_us"`
+	SQLP99    Micros `json:"sql_p99_us"`
+	// Errors count failed requests; they are not counted as answers.
+	VeneerErrors int64 `json:"veneer_errors"`
+	SQLErrors    int64 `json:"sql_errors"`
+}
+
+// load is what one side achieved under load.
+type load struct {
+	done, failed int64
+	elapsed      time.Duration
+	latencies    []time.Duration
+}
+
+// throughput runs cfg.Clients clients against each side, in the order veneer,
+// SQL, SQL, veneer for half of ThroughputTime each, so that a drift of the
+// machine's speed over the measurement weighs on both sides alike.
+func throughput(ctx context.Context, cfg Config, c *client, q mix.Query) Throughput {
+	d := min(cfg.ThroughputTime, MaxThroughputTime)
+	veneer, twin := sides(cfg, q)
+	var v, s load
+	for _, step := range []struct {
+		side side
+		into *load
+	}{{veneer, &v}, {twin, &s}, {twin, &s}, {veneer, &v}} {
+		hammer(ctx, c, step.side, cfg.Clients, d/2, step.into)
+	}
+	t := Throughput{
+		Query: q.Name, Clients: cfg.Clients, Seconds: d.Seconds(),
+		VeneerQPS: float64(v.done) / v.elapsed.Seconds(), SQLQPS: float64(s.done) / s.elapsed.Seconds(),
+		VeneerErrors: v.failed, SQLErrors: s.failed,
+	}
+	if t.SQLQPS > 0 {
+		t.Ratio = t.VeneerQPS / t.SQLQPS
+	}
+	t.VeneerP50, t.VeneerP99 = percentiles(v.latencies)
+	t.SQLP50, t.SQLP99 = percentiles(s.latencies)
+	return t
+}
+
+// hammer has clients goroutines ask s back to back for d.
+func hammer(ctx context.Context, c *client, s side, clients int, d time.Duration, into *load) {
+	ctx, cancel := context.WithTimeout(ctx, d)
+	defer cancel()
+	var done, failed atomic.Int64
+	lat := make([][]time.Duration, clients)
+	var wg sync.WaitGroup
+	start := time.Now()
+	for i := range clients {
+		wg.Go(func() {
+			for ctx.Err() == nil {
+				_, took, err := c.fetch(ctx, s)
+				switch {
+				case ctx.Err() != nil:
+					// Cut off by the end of the measurement: not an answer.
+				case err != nil:
+					failed.Add(1)
+				default:
+					done.Add(1)
+					lat[i] = append(lat[i], took)
+				}
+			}
+		})
+	}
+	wg.Wait()
+	into.elapsed += time.Since(start)
+	into.done += done.Load()
+	into.failed += failed.Load()
+	for _, l := range lat {
+		into.latencies = append(into.latencies, l...)
+	}
+}
+
+func percentiles(ds []time.Duration) (p50, p99 Micros) {
+	if len(ds) == 0 {
+		return 0, 0
+	}
+	s := append([]time.Duration(nil), ds...)
+	slices.Sort(s)
+	at := func(p float64) Micros { return Micros(s[min(len(s)-1, int(p*float64(len(s))))]) }
+	return at(0.50), at(0.99)
+}
