@@ -62,10 +62,12 @@ type Check struct {
 type Limits struct {
 	// MaxUnions caps the union branches a pattern may unfold into.
 	MaxUnions int
+	// MaxTables caps the tables one SELECT of the statement may join.
+	MaxTables int
 }
 
 // DefaultLimits are the limits a planner starts with.
-func DefaultLimits() Limits { return Limits{MaxUnions: 512} }
+func DefaultLimits() Limits { return Limits{MaxUnions: 512, MaxTables: 64} }
 
 // Planner plans queries over one catalog on one source.
 type Planner struct {
@@ -248,6 +250,11 @@ func (q *query) pair(l, r algebra.Node, graph algebra.Item) (Op, Op, error) {
 func (q *query) scan(r *rel, mod modifiers) (Op, error) {
 	if len(r.branches) == 0 {
 		return &Scan{}, nil
+	}
+	for _, b := range r.branches {
+		if len(b.from) > q.pl.limits.MaxTables {
+			return nil, &TooComplex{What: fmt.Sprintf("one SELECT would join %d tables, more than the limit of %d", len(b.from), q.pl.limits.MaxTables)}
+		}
 	}
 	c, ok := q.closeRel(r, mod)
 	if !ok {

@@ -2,6 +2,7 @@ package rewrite_test
 
 import (
 	"context"
+	"errors"
 	"database/sql"
 	"flag"
 	"os"
@@ -98,5 +99,22 @@ func TestUnsupportedIsNamed(t *testing.T) {
 	_, err := pl.Compile(`SELECT * WHERE { SERVICE <http://elsewhere.example/sparql> { ?s ?p ?o } }`)
 	if err == nil || !strings.Contains(err.Error(), "SERVICE") {
 		t.Errorf("err = %v, want one naming SERVICE", err)
+	}
+}
+
+func TestLimits(t *testing.T) {
+	pl := planner(t, source.SQLite)
+	pl.SetLimits(rewrite.Limits{MaxUnions: 4, MaxTables: 64})
+	// ?s ?p ?o unfolds into one branch per producer: more than four.
+	_, err := pl.Compile(`SELECT * WHERE { ?s ?p ?o }`)
+	var tc *rewrite.TooComplex
+	if !errors.As(err, &tc) || !strings.Contains(err.Error(), "union branches") {
+		t.Errorf("err = %v, want a TooComplex error about union branches", err)
+	}
+	pl.SetLimits(rewrite.Limits{MaxUnions: 512, MaxTables: 2})
+	_, err = pl.Compile(`PREFIX wf: <https://vocab.veneer.example/windfarm#>
+SELECT * WHERE { ?t wf:locatedAt ?s . ?u wf:locatedAt ?s . ?v wf:locatedAt ?s }`)
+	if !errors.As(err, &tc) || !strings.Contains(err.Error(), "tables") {
+		t.Errorf("err = %v, want a TooComplex error about tables", err)
 	}
 }

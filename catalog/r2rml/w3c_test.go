@@ -39,7 +39,9 @@ func w3cDir(t *testing.T) string {
 
 type r2rmlTest struct {
 	id, mapping string
-	wantError   bool
+	// script is the SQL script that creates the test's database.
+	script    string
+	wantError bool
 }
 
 // readR2RMLManifest lists the R2RML tests of one test directory.
@@ -54,8 +56,9 @@ func readR2RMLManifest(t *testing.T, dir string) []r2rmlTest {
 	if err != nil {
 		t.Fatalf("reading the manifest: %v", err)
 	}
+	bySubj := doc.BySubject()
 	var tests []r2rmlTest
-	for subj, sts := range doc.BySubject() {
+	for subj, sts := range bySubj {
 		isR2RML := false
 		var rt r2rmlTest
 		var hasExpected rdf.Term
@@ -69,13 +72,19 @@ func readR2RMLManifest(t *testing.T, dir string) []r2rmlTest {
 				rt.mapping = filepath.Join(dir, st.O.(rdf.Literal).Lexical)
 			case testNS + "hasExpectedOutput":
 				hasExpected = st.O
+			case testNS + "database":
+				for _, dst := range bySubj[st.O] {
+					if dst.P == testNS+"sqlScriptFile" {
+						rt.script = dst.O.(rdf.Literal).Lexical
+					}
+				}
 			}
 		}
 		if !isR2RML {
 			continue
 		}
-		if rt.id == "" || rt.mapping == "" || hasExpected == nil {
-			t.Fatalf("%s: test %v lacks an identifier, mapping document or rdb2rdftest:hasExpectedOutput", path, subj)
+		if rt.id == "" || rt.mapping == "" || rt.script == "" || hasExpected == nil {
+			t.Fatalf("%s: test %v lacks an identifier, mapping document, database script or rdb2rdftest:hasExpectedOutput", path, subj)
 		}
 		rt.wantError = hasExpected == rdf.NewTyped("false", rdf.XSDBoolean)
 		tests = append(tests, rt)
