@@ -21,6 +21,8 @@ type Columns struct {
 	keys map[string][][]string
 	// foreign holds, per logical table, its foreign key constraints.
 	foreign map[string][]source.ForeignKey
+	// dialect is the source's, whose rules decide which column a name finds.
+	dialect source.Dialect
 }
 
 // Key identifies a logical table: its name, or its query text for a view.
@@ -52,7 +54,7 @@ func ProbeColumns(ctx context.Context, src source.Source, cat *Catalog) (*Column
 // there are problems.
 func Check(ctx context.Context, src source.Source, cat *Catalog) (*Columns, ErrorList) {
 	c := &Columns{tables: map[string][]source.Column{}, keys: map[string][][]string{},
-		foreign: map[string][]source.ForeignKey{}}
+		foreign: map[string][]source.ForeignKey{}, dialect: src.Dialect()}
 	// The schema names the tables a missing one could have been meant as, and
 	// gives the keys, which make the planner's SQL simpler (no DISTINCT, no
 	// self-joins); without it every answer is still right, so a schema that
@@ -396,7 +398,8 @@ func naturalName(k source.TypeKind) string {
 	return "xsd:string"
 }
 
-// Lookup finds a column of a logical table by the name a mapping gives it.
+// Lookup finds a column of a logical table by the name a mapping gives it,
+// as the source's database would resolve it (see Ident.Matches).
 func (c *Columns) Lookup(t LogicalTable, name string) (source.Column, error) {
 	cols := c.tables[t.Key()]
 	id, err := columnIdent(name)
@@ -406,6 +409,17 @@ func (c *Columns) Lookup(t LogicalTable, name string) (source.Column, error) {
 	for _, col := range cols {
 		if id.Matches(col.Name) {
 			return col, nil
+		}
+	}
+	// MySQL and SQLite keep the case a column was created with, delimited or
+	// not, and find columns without regard to case: there a regular Name is
+	// the column reported as "Name" (which in PostgreSQL it is not). A
+	// delimited identifier still matches exactly.
+	if !id.Quoted && (c.dialect == source.MySQL || c.dialect == source.SQLite) {
+		for _, col := range cols {
+			if strings.EqualFold(id.Name, col.Name) {
+				return col, nil
+			}
 		}
 	}
 	names := make([]string, len(cols))

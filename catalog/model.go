@@ -88,6 +88,10 @@ type TermMap struct {
 	// Datatype is the datatype of literal maps given by rr:datatype; empty means
 	// the natural RDF datatype of the column's SQL type (R2RML §10.2).
 	Datatype rdf.IRI
+	// Base is the base IRI of the mapping document, which a column- or
+	// template-valued IRI map prepends to values that are not absolute IRIs
+	// (R2RML §11).
+	Base string
 }
 
 // Columns lists the columns the term map reads, in order of first use.

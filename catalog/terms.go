@@ -420,3 +420,57 @@ func ParseLexical(lexical string, kind source.TypeKind) (any, bool) {
 	}
 	return v, true
 }
+
+// MakeIRI turns the string an IRI-valued term map produced into its IRI (R2RML
+// §11): an absolute IRI stays as it is, anything else is appended to the map's
+// base IRI; a result that is not a valid IRI is a data error.
+func (m TermMap) MakeIRI(s string) (rdf.IRI, error) {
+	iri := s
+	if !absoluteIRI(s) {
+		iri = m.Base + s
+	}
+	if !absoluteIRI(iri) || !validIRIChars(iri) {
+		return "", fmt.Errorf("data error: %q is not a valid IRI (R2RML §11)", iri)
+	}
+	return rdf.IRI(iri), nil
+}
+
+// Unbase returns the strings a term map may have produced for iri: the IRI
+// itself, and without the map's base when iri starts with it.
+func (m TermMap) Unbase(iri string) []string {
+	out := []string{iri}
+	if m.Base != "" && strings.HasPrefix(iri, m.Base) {
+		if rest := iri[len(m.Base):]; !absoluteIRI(rest) {
+			out = append(out, rest)
+		}
+	}
+	return out
+}
+
+// absoluteIRI reports whether s starts with a scheme (RFC 3987: ALPHA *( ALPHA /
+// DIGIT / "+" / "-" / "." ) ":").
+func absoluteIRI(s string) bool {
+	for i := 0; i < len(s); i++ {
+		c := s[i]
+		switch {
+		case 'a' <= c && c <= 'z' || 'A' <= c && c <= 'Z':
+		case i > 0 && ('0' <= c && c <= '9' || c == '+' || c == '-' || c == '.'):
+		case i > 0 && c == ':':
+			return true
+		default:
+			return false
+		}
+	}
+	return false
+}
+
+// validIRIChars reports whether s holds only characters an IRI may contain
+// (RFC 3987: no spaces, controls, or <>"{}|\^`).
+func validIRIChars(s string) bool {
+	for _, r := range s {
+		if r <= 0x20 || r == 0x7f || strings.ContainsRune(`<>"{}|\^`+"`", r) {
+			return false
+		}
+	}
+	return true
+}

@@ -15,19 +15,21 @@ import (
 // of the config file.
 var configFileKey = path.Base(ConfigFile)
 
-// veneerConfig is the YAML config file of `veneer serve --config` as issue 6
-// describes it (sources, mappings, listen address, limits, auth, CORS). Its
-// field names are this kit's assumption until the binary reads the file;
-// deploy/verify runs the binary on the example files as soon as it has the
-// flag, which catches a difference. Decoding is strict: a field not listed
-// here is an error.
+// veneerConfig is the YAML config file of `veneer serve --config`, with the
+// keys cmd/veneer/config.go reads. This copy lets the checks below relate the
+// file to the manifests without building the binary; deploy/verify runs the
+// binary itself on the example files, which catches any difference between
+// the two. Decoding is strict, as the binary's is: a key not listed here is
+// an error.
 type veneerConfig struct {
-	Listen   string   `json:"listen"`
-	Base     string   `json:"base,omitempty"`
-	Mappings []string `json:"mappings,omitempty"`
-	Pool     struct {
-		MaxConns int `json:"max_conns"`
-	} `json:"pool"`
+	Listen  string `json:"listen"`
+	Base    string `json:"base,omitempty"`
+	Sources []struct {
+		// DB is left out of the example files: VENEER_DB carries it.
+		DB       string   `json:"db,omitempty"`
+		Mappings []string `json:"mappings,omitempty"`
+		MaxConns int      `json:"max_conns"`
+	} `json:"sources"`
 	Limits struct {
 		QueryTimeout  duration `json:"query_timeout"`
 		MaxConcurrent int      `json:"max_concurrent"`
@@ -38,13 +40,22 @@ type veneerConfig struct {
 		MaxRows       int64    `json:"max_rows"`
 	} `json:"limits"`
 	Auth struct {
-		TokensFile string `json:"tokens_file"`
+		TokenFile string `json:"token_file"`
 	} `json:"auth"`
 	CORS struct {
 		Origins []string `json:"origins"`
 	} `json:"cors"`
-	SlowQuery    duration `json:"slow_query"`
-	DrainTimeout duration `json:"drain_timeout"`
+	TLS struct {
+		Cert string `json:"cert"`
+		Key  string `json:"key"`
+	} `json:"tls"`
+	Log struct {
+		Level     string   `json:"level"`
+		Format    string   `json:"format"`
+		SlowQuery duration `json:"slow_query"`
+	} `json:"log"`
+	TrustForwarded bool     `json:"trust_forwarded"`
+	DrainTimeout   duration `json:"drain_timeout"`
 }
 
 // duration is a Go duration written as text ("30s").
@@ -81,13 +92,23 @@ func checkConfig(t *testing.T, name string, c *veneerConfig, cmData map[string]s
 	if c.DrainTimeout.Duration != DrainTimeout {
 		t.Errorf("%s: drain_timeout %v, want %v: the pod's termination grace period is sized for it", name, c.DrainTimeout.Duration, DrainTimeout)
 	}
-	if c.Auth.TokensFile != TokensFile {
-		t.Errorf("%s: auth.tokens_file %q, want %q, where the Secret's %q key is mounted", name, c.Auth.TokensFile, TokensFile, SecretTokensKey)
+	if c.Auth.TokenFile != TokensFile {
+		t.Errorf("%s: auth.token_file %q, want %q, where the Secret's %q key is mounted", name, c.Auth.TokenFile, TokensFile, SecretTokensKey)
 	}
-	if len(c.Mappings) == 0 && c.Base == "" {
+	if c.Log.Format != "json" {
+		t.Errorf("%s: log.format %q: a cluster's log collectors want json", name, c.Log.Format)
+	}
+	if len(c.Sources) != 1 {
+		t.Fatalf("%s: %d sources, want 1 (one source is served for now)", name, len(c.Sources))
+	}
+	src := c.Sources[0]
+	if src.DB != "" {
+		t.Errorf("%s: sources[0].db is set; the DSN belongs in the Secret, through %s", name, DSNEnv)
+	}
+	if len(src.Mappings) == 0 && c.Base == "" {
 		t.Errorf("%s: no mappings and no base IRI: the Direct Mapping needs a base", name)
 	}
-	for _, m := range c.Mappings {
+	for _, m := range src.Mappings {
 		dir, file := path.Split(m)
 		if strings.TrimSuffix(dir, "/") != ConfigDir {
 			t.Errorf("%s: mapping %q is not under %s, where the ConfigMap is mounted", name, m, ConfigDir)
@@ -97,14 +118,14 @@ func checkConfig(t *testing.T, name string, c *veneerConfig, cmData map[string]s
 			t.Errorf("%s: mapping %q: the ConfigMap has no key %q", name, m, file)
 		}
 	}
-	if c.Pool.MaxConns < 1 {
-		t.Errorf("%s: pool.max_conns %d: give the pool size explicitly, it is the unit of database sizing", name, c.Pool.MaxConns)
+	if src.MaxConns < 1 {
+		t.Errorf("%s: sources[0].max_conns %d: give the pool size explicitly, it is the unit of database sizing", name, src.MaxConns)
 	}
 	l := c.Limits
 	// A query admitted to a slot should never wait for a connection, so that
 	// the admission queue (bounded, with fast 503s) is the only queue.
-	if l.MaxConcurrent < 1 || l.MaxConcurrent > c.Pool.MaxConns {
-		t.Errorf("%s: limits.max_concurrent %d, want 1..pool.max_conns (%d)", name, l.MaxConcurrent, c.Pool.MaxConns)
+	if l.MaxConcurrent < 1 || l.MaxConcurrent > src.MaxConns {
+		t.Errorf("%s: limits.max_concurrent %d, want 1..sources[0].max_conns (%d)", name, l.MaxConcurrent, src.MaxConns)
 	}
 	for _, v := range []struct {
 		what string
@@ -138,7 +159,7 @@ func TestConfigDecodingIsStrict(t *testing.T) {
 		{"unknown key", "listen: 0.0.0.0:7531\nlisten_addr: x\n", "listen_addr"},
 		{"misspelt nested key", "limits:\n  max_concurent: 4\n", "max_concurent"},
 		{"bad duration", "drain_timeout: twenty\n", "twenty"},
-		{"wrong type", "pool:\n  max_conns: many\n", "max_conns"},
+		{"wrong type", "sources:\n  - max_conns: many\n", "max_conns"},
 	}
 	for _, tt := range tests {
 		t.Run(tt.name, func(t *testing.T) {

@@ -550,9 +550,12 @@ func checkObjects(t *testing.T, o *objects) {
 	budget, err := strconv.Atoi(hpa.Annotations[budgetAnnotation])
 	if err != nil {
 		t.Errorf("HorizontalPodAutoscaler %s: annotation %s: %v", hpa.Name, budgetAnnotation, err)
-	} else if most := int(hpa.Spec.MaxReplicas+surge) * cfg.Pool.MaxConns; most > budget {
-		t.Errorf("(%d replicas + %d surge) x %d connections = %d, over the database budget of %d",
-			hpa.Spec.MaxReplicas, surge, cfg.Pool.MaxConns, most, budget)
+	} else if len(cfg.Sources) == 1 {
+		conns := cfg.Sources[0].MaxConns
+		if most := int(hpa.Spec.MaxReplicas+surge) * conns; most > budget {
+			t.Errorf("(%d replicas + %d surge) x %d connections = %d, over the database budget of %d",
+				hpa.Spec.MaxReplicas, surge, conns, most, budget)
+		}
 	}
 }
 

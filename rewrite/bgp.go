@@ -209,31 +209,48 @@ func (q *query) constConds(o occurrence, c rdf.Term) ([]sql.Expr, bool) {
 	if c.Kind() != m.TermType {
 		return nil, false
 	}
-	var lexical string
+	var lexicals []string
 	switch c := c.(type) {
 	case rdf.IRI:
-		lexical = string(c)
+		// A value that is not an absolute IRI was joined to the map's base.
+		lexicals = m.Unbase(string(c))
 	case rdf.Literal:
 		dt, lang := literalType(o)
 		if c.Datatype != dt || !strings.EqualFold(c.Lang, lang) {
 			return nil, false
 		}
-		lexical = c.Lexical
+		lexicals = []string{c.Lexical}
 	default:
 		// Blank nodes of a query are variables; a blank node constant never occurs.
 		return nil, false
 	}
-	switch m.Kind {
-	case catalog.Column:
-		return q.valueConds(o, map[string]string{m.Column: lexical})
-	case catalog.TemplateMap:
-		values, ok := m.Template.Match(lexical, m.TermType == rdf.KindIRI)
-		if !ok {
-			return nil, false
+	var options [][]sql.Expr
+	for _, lexical := range lexicals {
+		var values map[string]string
+		switch m.Kind {
+		case catalog.Column:
+			values = map[string]string{m.Column: lexical}
+		case catalog.TemplateMap:
+			var ok bool
+			if values, ok = m.Template.Match(lexical, m.TermType == rdf.KindIRI); !ok {
+				continue
+			}
 		}
-		return q.valueConds(o, values)
+		if conds, ok := q.valueConds(o, values); ok {
+			options = append(options, conds)
+		}
 	}
-	return nil, false
+	switch len(options) {
+	case 0:
+		return nil, false
+	case 1:
+		return options[0], true
+	}
+	var alts []sql.Expr
+	for _, conds := range options {
+		alts = append(alts, sql.And(conds...))
+	}
+	return []sql.Expr{or(alts...)}, true
 }
 
 // valueConds equate columns with the values whose lexical forms are given; a value

@@ -17,9 +17,18 @@ import (
 // schema: CheckFiles must accept their mappings.
 var dataErrors = map[string]bool{"R2RMLTC0019b": true, "R2RMLTC0020b": true}
 
-// foreignViews are tests whose rr:sqlQuery is in SQL Server's dialect
-// ('+' joins strings, CAST to NVARCHAR); SQLite runs it (with another meaning),
-// PostgreSQL and MySQL reject it, which CheckFiles must report.
+// caseBlind are tests whose expected error rests on telling a regular column
+// name from a delimited one of the same letters, which MySQL and SQLite do not:
+// they keep the case a column was created with, delimited or not, and find
+// columns without regard to case, so there the mapping's regular Name is the
+// column "Name", as the database itself resolves it.
+var caseBlind = map[string]bool{"R2RMLTC0002f": true}
+
+// foreignViews are tests whose rr:sqlQuery is in SQL Server's dialect ('+'
+// joins strings, CAST to NVARCHAR). PostgreSQL rejects each, which CheckFiles
+// must report; MySQL and SQLite read '+' as addition and run some of them
+// with another meaning, which only the graph shows (the conformance run skips
+// these tests).
 var foreignViews = []string{"R2RMLTC0002d", "R2RMLTC0003b", "R2RMLTC0014a", "R2RMLTC0014b", "R2RMLTC0014c"}
 
 // TestW3CCheck checks the mapping of every R2RML test of the W3C RDB2RDF suite
@@ -73,14 +82,16 @@ func checkW3C(t *testing.T, src source.Source, rt r2rmlTest, needsDB map[string]
 		t.Logf("%s: %v", rt.id, w)
 	}
 	errs := rep.Problems.Errors()
-	wantError := rt.wantError && !dataErrors[rt.id]
-	foreign := slices.Contains(foreignViews, rt.id) && src.Dialect() != source.SQLite
+	wantError := rt.wantError && !dataErrors[rt.id] && !(caseBlind[rt.id] && src.Dialect() != source.Postgres)
+	foreign := slices.Contains(foreignViews, rt.id)
 	switch {
-	case foreign:
+	case foreign && src.Dialect() == source.Postgres:
 		if len(errs) == 0 || !strings.Contains(errs[0].Msg, "the database rejects the R2RML view") {
 			t.Errorf("%s: the view in SQL Server's dialect: got %v, want the database to reject it", rt.id, errs)
 		}
 		return 0, 1
+	case foreign:
+		t.Logf("%s, a view in SQL Server's dialect: %v", rt.id, errs)
 	case wantError && len(errs) == 0:
 		t.Errorf("%s: the manifest expects an error (%s); the check found none", rt.id, needsDB[rt.id])
 	case !wantError && len(errs) > 0:

@@ -110,6 +110,7 @@ type stmt struct {
 
 type loader struct {
 	names    []string
+	bases    []string // each document's base IRI, by document index
 	bySubj   map[node][]stmt
 	subjects []node // in order of first appearance
 	maps     map[node]*catalog.TriplesMap
@@ -147,6 +148,7 @@ func read(ins []input) (*catalog.Catalog, ErrorList, error) {
 			return nil, nil, err
 		}
 		l.names = append(l.names, in.name)
+		l.bases = append(l.bases, doc.Base)
 		for _, st := range doc.Statements {
 			s := stmt{st, i}
 			n := l.nodeOf(st.S, i)

@@ -245,7 +245,20 @@ func (l *loader) termMap(props map[rdf.IRI][]stmt, r role, pos catalog.Pos) (cat
 			ok = false
 		}
 	}
+	if m.TermType == rdf.KindIRI && m.Kind != catalog.Constant {
+		m.Base = l.baseOf(pos.File)
+	}
 	return m, ok
+}
+
+// baseOf is the base IRI of the document with the given name.
+func (l *loader) baseOf(file string) string {
+	for i, n := range l.names {
+		if n == file {
+			return l.bases[i]
+		}
+	}
+	return ""
 }
 
 // termType sets the term type of m (R2RML §7.4): rr:termType if given, else the

@@ -10,6 +10,9 @@ type Document struct {
 	// prefix declared twice appears twice, and the later one took effect from
 	// its declaration on.
 	Prefixes []Prefix
+	// Base is the base IRI in effect at the end of the text: the last @base or
+	// BASE, or the one the reader was given.
+	Base string
 }
 
 // Statement is a triple or quad read from a text, with where its terms were

@@ -28,6 +28,7 @@ func ParseTurtle(name string, src []byte, base string) (*Document, error) {
 	if err := p.turtleDoc(); err != nil {
 		return nil, ErrorList{err}
 	}
+	p.doc.Base = p.base
 	return p.doc, nil
 }
 

@@ -177,23 +177,23 @@ func (t temporal) instant() time.Time {
 // against one with a zone it is smaller or greater only when all those
 // moments are, and otherwise the two are incomparable (an error, as the DAWG
 // open-world date-1 to date-3 tests expect for "2006-08-23Z" = "2006-08-23").
-func compareTemporal(a, b temporal) (int, error) {
+func compareTemporal(a, b temporal) (int, bool) {
 	if a.hasZone == b.hasZone {
-		return a.instant().Compare(b.instant()), nil
+		return a.instant().Compare(b.instant()), true
 	}
 	if !a.hasZone {
-		c, err := compareTemporal(b, a)
-		return -c, err
+		c, ok := compareTemporal(b, a)
+		return -c, ok
 	}
 	const span = 14 * time.Hour
 	p, q := a.instant(), b.instant()
 	switch {
 	case p.Before(q.Add(-span)):
-		return -1, nil
+		return -1, true
 	case p.After(q.Add(span)):
-		return 1, nil
+		return 1, true
 	}
-	return 0, errExpr
+	return 0, false
 }
 
 // seconds is the seconds field with its fraction, as SECONDS returns it.

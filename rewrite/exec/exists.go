@@ -171,74 +171,84 @@ func substitute(n algebra.Node, mu map[algebra.Var]rdf.Term) algebra.Node {
 		return it
 	}
 	ex := func(e algebra.Expr) algebra.Expr { return substituteExpr(e, mu) }
-	switch n := n.(type) {
+	var out algebra.Node
+	switch x := n.(type) {
 	case algebra.BGP:
-		out := algebra.BGP{Patterns: make([]algebra.Triple, len(n.Patterns))}
-		for i, t := range n.Patterns {
-			out.Patterns[i] = algebra.Triple{S: item(t.S), P: item(t.P), O: item(t.O)}
+		b := algebra.BGP{Patterns: make([]algebra.Triple, len(x.Patterns))}
+		for i, t := range x.Patterns {
+			b.Patterns[i] = algebra.Triple{S: item(t.S), P: item(t.P), O: item(t.O)}
 		}
-		return out
+		return b
 	case algebra.PathPattern:
-		n.S, n.O = item(n.S), item(n.O)
-		return n
-	case algebra.Graph:
-		n.Name = item(n.Name)
-	case algebra.Service:
-		n.Endpoint = item(n.Endpoint)
+		x.S, x.O = item(x.S), item(x.O)
+		return x
 	case algebra.Values:
-		return substituteValues(n, mu)
-	case algebra.Filter:
-		exprs := make([]algebra.Expr, len(n.Exprs))
-		for i, e := range n.Exprs {
-			exprs[i] = ex(e)
-		}
-		n.Exprs = exprs
-	case algebra.LeftJoin:
-		if n.Expr != nil {
-			n.Expr = ex(n.Expr)
-		}
-	case algebra.Extend:
-		if t, ok := mu[n.Var]; ok {
-			same := algebra.Call{Op: "SAMETERM", Args: []algebra.Expr{ex(n.Expr), algebra.Const{Term: t}}}
-			test := algebra.Call{Op: "COALESCE", Args: []algebra.Expr{same, algebra.Const{Term: termTrue}}}
-			return algebra.Filter{Exprs: []algebra.Expr{test}, Input: substitute(n.Input, mu)}
-		}
-		n.Expr = ex(n.Expr)
-	case algebra.Group:
-		keys := make([]algebra.GroupKey, len(n.Keys))
-		for i, k := range n.Keys {
-			keys[i] = algebra.GroupKey{Expr: ex(k.Expr), Var: k.Var}
-		}
-		aggs := make([]algebra.AggBinding, len(n.Aggs))
-		for i, a := range n.Aggs {
-			aggs[i] = algebra.AggBinding{Var: a.Var, Agg: ex(a.Agg).(algebra.Aggregate)}
-		}
-		n.Keys, n.Aggs = keys, aggs
-	case algebra.OrderBy:
-		conds := make([]algebra.OrderCond, len(n.Conds))
-		for i, c := range n.Conds {
-			conds[i] = algebra.OrderCond{Expr: ex(c.Expr), Desc: c.Desc}
-		}
-		n.Conds = conds
+		return substituteValues(x, mu)
 	case algebra.Project:
 		inner := map[algebra.Var]rdf.Term{}
-		for _, v := range n.Vars {
+		for _, v := range x.Vars {
 			if t, ok := mu[v]; ok {
 				inner[v] = t
 			}
 		}
-		n.Input = substitute(n.Input, inner)
-		return n
+		x.Input = substitute(x.Input, inner)
+		return x
+	case algebra.Extend:
+		if t, ok := mu[x.Var]; ok {
+			same := algebra.Call{Op: "SAMETERM", Args: []algebra.Expr{ex(x.Expr), algebra.Const{Term: t}}}
+			test := algebra.Call{Op: "COALESCE", Args: []algebra.Expr{same, algebra.Const{Term: termTrue}}}
+			return algebra.Filter{Exprs: []algebra.Expr{test}, Input: substitute(x.Input, mu)}
+		}
+		x.Expr = ex(x.Expr)
+		out = x
+	case algebra.Graph:
+		x.Name = item(x.Name)
+		out = x
+	case algebra.Service:
+		x.Endpoint = item(x.Endpoint)
+		out = x
+	case algebra.Filter:
+		exprs := make([]algebra.Expr, len(x.Exprs))
+		for i, e := range x.Exprs {
+			exprs[i] = ex(e)
+		}
+		x.Exprs = exprs
+		out = x
+	case algebra.LeftJoin:
+		if x.Expr != nil {
+			x.Expr = ex(x.Expr)
+		}
+		out = x
+	case algebra.Group:
+		keys := make([]algebra.GroupKey, len(x.Keys))
+		for i, k := range x.Keys {
+			keys[i] = algebra.GroupKey{Expr: ex(k.Expr), Var: k.Var}
+		}
+		aggs := make([]algebra.AggBinding, len(x.Aggs))
+		for i, a := range x.Aggs {
+			aggs[i] = algebra.AggBinding{Var: a.Var, Agg: ex(a.Agg).(algebra.Aggregate)}
+		}
+		x.Keys, x.Aggs = keys, aggs
+		out = x
+	case algebra.OrderBy:
+		conds := make([]algebra.OrderCond, len(x.Conds))
+		for i, c := range x.Conds {
+			conds[i] = algebra.OrderCond{Expr: ex(c.Expr), Desc: c.Desc}
+		}
+		x.Conds = conds
+		out = x
+	default:
+		out = n
 	}
-	kids := n.Children()
+	kids := out.Children()
 	if len(kids) == 0 {
-		return n
+		return out
 	}
 	next := make([]algebra.Node, len(kids))
 	for i, k := range kids {
 		next[i] = substitute(k, mu)
 	}
-	return n.WithChildren(next...)
+	return out.WithChildren(next...)
 }
 
 // substituteValues keeps the rows of inline data that agree with mu.

@@ -16,6 +16,10 @@ import (
 // pattern that EXISTS had to run.
 var errExpr = errors.New("expression error")
 
+// errIncomparable is the expression error of comparing two date-time values
+// whose order XML Schema leaves open (see compareTemporal).
+var errIncomparable = errors.New("incomparable date-time values")
+
 // evalFn evaluates a compiled expression over a solution of the plan's layout.
 type evalFn func(sol []rdf.Term) (rdf.Term, error)
 
@@ -322,7 +326,11 @@ func compareValues(a, b rdf.Term) (int, error) {
 		if !ok1 || !ok2 {
 			return 0, errExpr
 		}
-		return compareTemporal(x, y)
+		c, ok := compareTemporal(x, y)
+		if !ok {
+			return 0, errIncomparable
+		}
+		return c, nil
 	}
 	return 0, errExpr
 }
@@ -359,8 +367,11 @@ func valueTyped(l rdf.Literal) bool {
 // values it cannot compare.
 func equalTerms(a, b rdf.Term) (bool, error) {
 	c, err := compareValues(a, b)
-	if err == nil {
+	switch {
+	case err == nil:
 		return c == 0, nil
+	case err == errIncomparable:
+		return false, errExpr
 	}
 	if rdf.SameTerm(a, b) {
 		return true, nil

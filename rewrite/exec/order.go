@@ -79,8 +79,8 @@ func orderLiterals(a, b rdf.Literal) int {
 	}
 	c, err := compareValues(a, b)
 	switch {
-	case err == nil && c != unordered && c != 0:
-		return c
+	case err == nil && c != unordered:
+		return c // equal values (2 and 2.0) tie, keeping their input order
 	case c == unordered:
 		// NaN is unordered; it goes before every other number.
 		return boolInt(!isNaN(a)) - boolInt(!isNaN(b))

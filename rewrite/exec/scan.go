@@ -108,6 +108,7 @@ func (s *scanIter) close() {
 	s.done = true
 	if s.rows != nil {
 		s.rows.Close()
+		s.rows = nil
 	}
 }
 

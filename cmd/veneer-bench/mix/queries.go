@@ -32,7 +32,7 @@ func Queries(p Params, d source.Dialect) []Query {
 	var values, marks []string
 	var serials []any
 	for _, s := range p.Turbines {
-		values = append(values, "<"+string(Resource("turbine/", s))+">")
+		values = append(values, Resource("turbine/", s).String())
 		marks = append(marks, "?")
 		serials = append(serials, s)
 	}
@@ -41,7 +41,7 @@ func Queries(p Params, d source.Dialect) []Query {
 		{
 			Name: "01-point", Kind: "point lookup by IRI", Form: Select,
 			SPARQL: fmt.Sprintf(`SELECT ?status ?priority ?category ?openedAt WHERE {
-  <%s> wf:status ?status ; wf:priority ?priority ; wf:category ?category ; wf:openedAt ?openedAt .
+  %s wf:status ?status ; wf:priority ?priority ; wf:category ?category ; wf:openedAt ?openedAt .
 }`, workOrder),
 			Twin: Twin{
 				SQL:   "SELECT status, priority, category, opened_at FROM work_order WHERE order_number = ?",
@@ -70,7 +70,7 @@ FROM turbine t JOIN site s ON s.site_id = t.site_id WHERE t.serial = ?`,
 			Name: "03-chain2", Kind: "chain across two foreign keys", Form: Select,
 			SPARQL: fmt.Sprintf(`SELECT ?wo ?number ?priority ?turbine WHERE {
   ?wo wf:onTurbine ?turbine ; wf:orderNumber ?number ; wf:priority ?priority ; wf:status "open" .
-  ?turbine wf:locatedAt <%s> .
+  ?turbine wf:locatedAt %s .
 }`, site),
 			Twin: Twin{
 				SQL: `SELECT w.order_number, w.priority, t.serial
@@ -88,7 +88,7 @@ WHERE s.code = ? AND w.status = ?`,
   ?usage wf:usedIn ?wo ; wf:part ?part ; wf:quantity ?quantity .
   ?part wf:partNumber ?partNumber .
   ?wo wf:onTurbine ?turbine .
-  ?turbine wf:locatedAt <%s> .
+  ?turbine wf:locatedAt %s .
 }`, site),
 			Twin: Twin{
 				SQL: `SELECT u.work_order_id, u.part_id, p.part_number, u.quantity
@@ -105,7 +105,7 @@ WHERE s.code = ?`,
 		{
 			Name: "05-optional", Kind: "OPTIONAL attributes", Form: Select,
 			SPARQL: fmt.Sprintf(`SELECT ?wo ?opened ?closed ?techName WHERE {
-  ?wo wf:onTurbine <%s> ; wf:openedAt ?opened .
+  ?wo wf:onTurbine %s ; wf:openedAt ?opened .
   OPTIONAL { ?wo wf:closedAt ?closed }
   OPTIONAL { ?wo wf:assignedTo ?tech . ?tech rdfs:label ?techName }
 }`, turbine),
@@ -123,9 +123,9 @@ WHERE t.serial = ?`,
 		{
 			Name: "06-union", Kind: "UNION of two entity kinds", Form: Select,
 			SPARQL: fmt.Sprintf(`SELECT ?event ?day WHERE {
-  { ?event a wf:WorkOrder ; wf:onTurbine <%[1]s> ; wf:openedAt ?day }
+  { ?event a wf:WorkOrder ; wf:onTurbine %[1]s ; wf:openedAt ?day }
   UNION
-  { ?event a wf:Inspection ; wf:onTurbine <%[1]s> ; wf:inspectedOn ?day }
+  { ?event a wf:Inspection ; wf:onTurbine %[1]s ; wf:inspectedOn ?day }
 }`, turbine),
 			Twin: Twin{
 				SQL: `SELECT w.order_number, w.opened_at, NULL, NULL
@@ -223,7 +223,7 @@ WHERE w.priority = ? ORDER BY w.opened_at DESC, w.order_number DESC LIMIT ?`,
 			Name: "12-distinct", Kind: "DISTINCT", Form: Select,
 			SPARQL: fmt.Sprintf(`SELECT DISTINCT ?tech ?name WHERE {
   ?wo wf:onTurbine ?t ; wf:assignedTo ?tech .
-  ?t wf:locatedAt <%s> .
+  ?t wf:locatedAt %s .
   ?tech rdfs:label ?name .
 }`, site),
 			Twin: Twin{
@@ -255,7 +255,7 @@ WHERE t.serial IN (` + strings.Join(marks, ", ") + `) AND w.status = ?`,
 		},
 		{
 			Name: "14-ask", Kind: "ASK probe", Form: Ask,
-			SPARQL: fmt.Sprintf(`ASK { ?wo wf:onTurbine <%s> ; wf:priority "critical" }`, turbine),
+			SPARQL: fmt.Sprintf(`ASK { ?wo wf:onTurbine %s ; wf:priority "critical" }`, turbine),
 			Twin: Twin{
 				SQL: `SELECT 1 FROM work_order w JOIN turbine t ON t.turbine_id = w.turbine_id
 WHERE t.serial = ? AND w.priority = ? LIMIT 1`,
@@ -267,7 +267,7 @@ WHERE t.serial = ? AND w.priority = ? LIMIT 1`,
 		{
 			Name: "16-path-seq", Kind: "property path (inverse sequence)", Form: Select,
 			SPARQL: fmt.Sprintf(`SELECT ?usage ?quantity WHERE {
-  <%s> ^wf:locatedAt/^wf:onTurbine/^wf:usedIn ?usage .
+  %s ^wf:locatedAt/^wf:onTurbine/^wf:usedIn ?usage .
   ?usage wf:quantity ?quantity .
 }`, site),
 			Twin: Twin{
@@ -283,7 +283,7 @@ WHERE s.code = ?`,
 		},
 		{
 			Name: "17-path-alt", Kind: "property path (alternative)", Form: Select,
-			SPARQL: fmt.Sprintf(`SELECT ?event WHERE { ?event wf:assignedTo|wf:inspectedBy <%s> }`, technician),
+			SPARQL: fmt.Sprintf(`SELECT ?event WHERE { ?event wf:assignedTo|wf:inspectedBy %s }`, technician),
 			Twin: Twin{
 				SQL: `SELECT order_number, NULL FROM work_order WHERE technician_id = ?
 UNION ALL
@@ -322,8 +322,8 @@ func construct(p Params, turbine rdf.IRI) Query {
 	of := func(pred Slot, obj int) Triple { return Triple{v(tt), pred, v(obj)} }
 	return Query{
 		Name: "15-construct", Kind: "CONSTRUCT of a neighbourhood", Form: Construct,
-		SPARQL: fmt.Sprintf(`CONSTRUCT { <%[1]s> ?p ?o . ?x wf:onTurbine <%[1]s> }
-WHERE { { <%[1]s> ?p ?o } UNION { ?x wf:onTurbine <%[1]s> } }`, turbine),
+		SPARQL: fmt.Sprintf(`CONSTRUCT { %[1]s ?p ?o . ?x wf:onTurbine %[1]s }
+WHERE { { %[1]s ?p ?o } UNION { ?x wf:onTurbine %[1]s } }`, turbine),
 		Twin: Twin{
 			SQL: `SELECT t.serial, t.model, t.rated_power_kw, t.hub_height_m, t.commissioned_on, t.status,
   t.firmware_digest, s.code, NULL, NULL

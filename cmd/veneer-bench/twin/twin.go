@@ -37,7 +37,7 @@ func Handler(src source.Source, queries []mix.Query, timeout time.Duration) http
 		}
 		ctx, cancel := context.WithTimeout(r.Context(), timeout)
 		defer cancel()
-		if err := answer(ctx, w, src, q); err != nil {
+		if err := answer(ctx, w, src, q); err != nil && r.Context().Err() == nil {
 			// Once the body has begun, the status is sent: the broken document
 			// tells the client something went wrong.
 			http.Error(w, err.Error(), http.StatusInternalServerError)
