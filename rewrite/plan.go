@@ -112,7 +112,12 @@ func itoa(n int) string { return strconv.Itoa(n) }
 
 // Plan plans a translated query.
 func (pl *Planner) Plan(q *algebra.Query) (*Plan, error) {
-	root, err := pl.PlanPattern(q.Root)
+	pattern := q.Root
+	if q.Form == algebra.Ask {
+		// ASK needs one solution at most: the SQL stops at the first row.
+		pattern = algebra.Slice{Input: pattern, Limit: 1}
+	}
+	root, err := pl.PlanPattern(pattern)
 	if err != nil {
 		return nil, err
 	}

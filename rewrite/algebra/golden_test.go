@@ -15,9 +15,11 @@ import (
 var update = flag.Bool("update", false, "rewrite the golden files under testdata")
 
 // TestGolden translates every testdata/*.rq query and compares the printed
-// algebra with testdata/*.algebra. The expected trees were written by hand from
-// the translation rules and examples of SPARQL 1.1 Query §18.2 and checked on
-// review; -update regenerates them from the current output.
+// algebra with testdata/*.algebra. Each query starts with comments naming the
+// section of SPARQL 1.1 Query (§18.2 mostly) whose rules it checks; the
+// expected trees follow those rules and were checked against them by hand.
+// -update regenerates them from the current output, for a reviewer to read
+// the diff.
 func TestGolden(t *testing.T) {
 	files, err := filepath.Glob("testdata/*.rq")
 	if err != nil || len(files) == 0 {
@@ -29,6 +31,9 @@ func TestGolden(t *testing.T) {
 			src, err := os.ReadFile(file)
 			if err != nil {
 				t.Fatal(err)
+			}
+			if !strings.HasPrefix(string(src), "# §") {
+				t.Errorf("%s does not start with a comment citing the section it checks (# §...)", file)
 			}
 			q, err := sparql.Parse(string(src))
 			if err != nil {

@@ -109,14 +109,11 @@ func (b *builder) build(op rewrite.Op) (node, error) {
 		if err != nil {
 			return node{}, err
 		}
-		keep := map[int]bool{}
 		var scope []int
 		for _, v := range op.Vars {
-			i := b.l.slot(v)
-			keep[i] = true
-			scope = append(scope, i)
+			scope = append(scope, b.l.slot(v))
 		}
-		return node{it: &projectIter{r: b.r, in: in.it, keep: keep}, scope: scope}, nil
+		return node{it: &projectIter{r: b.r, in: in.it, vars: scope}, scope: scope}, nil
 	case *rewrite.Distinct:
 		in, err := b.build(op.Input)
 		if err != nil {
@@ -330,7 +327,8 @@ func (u *unionIter) close() {
 type projectIter struct {
 	r    *run
 	in   iterator
-	keep map[int]bool
+	vars []int
+	keep []bool // by slot, made for the layout's final width
 }
 
 func (p *projectIter) next() ([]rdf.Term, error) {
@@ -339,8 +337,14 @@ func (p *projectIter) next() ([]rdf.Term, error) {
 		return nil, err
 	}
 	p.r.residual++
-	for i := range sol {
-		if !p.keep[i] {
+	if p.keep == nil {
+		p.keep = make([]bool, len(sol))
+		for _, i := range p.vars {
+			p.keep[i] = true
+		}
+	}
+	for i, k := range p.keep {
+		if !k {
 			sol[i] = nil
 		}
 	}

@@ -7,6 +7,7 @@ package exec
 
 import (
 	"context"
+	"errors"
 	"fmt"
 	"strings"
 
@@ -60,7 +61,17 @@ func (o Options) Run(ctx context.Context, src source.Source, p *rewrite.Plan) (*
 }
 
 // start runs a plan with the given pattern planner (tests pass their own).
+// An error that has no kind yet is the plan's fault: Internal.
 func start(ctx context.Context, src source.Source, pp patternPlanner, p *rewrite.Plan, o Options) (*Cursor, error) {
+	c, err := open(ctx, src, pp, p, o)
+	var e *Error
+	if err != nil && !errors.As(err, &e) {
+		err = &Error{Kind: Internal, Err: err}
+	}
+	return c, err
+}
+
+func open(ctx context.Context, src source.Source, pp patternPlanner, p *rewrite.Plan, o Options) (*Cursor, error) {
 	r, err := newRun(ctx, src, pp, o)
 	if err != nil {
 		return nil, err

@@ -156,8 +156,8 @@ func datatypeFn(_ *run, a []rdf.Term) (rdf.Term, error) {
 	return nil, errExpr
 }
 
-// iriFn is IRI / URI (§17.4.2.8): a string is resolved against the run's base
-// IRI and must give an absolute IRI.
+// iriFn is IRI / URI (§17.4.2.8): an absolute IRI string is taken as it is; a
+// relative one is resolved against the run's base IRI (RFC 3986 §5.2).
 func iriFn(r *run, a []rdf.Term) (rdf.Term, error) {
 	switch t := a[0].(type) {
 	case rdf.IRI:
@@ -166,19 +166,33 @@ func iriFn(r *run, a []rdf.Term) (rdf.Term, error) {
 		if t.Datatype != rdf.XSDString {
 			return nil, errExpr
 		}
+		if hasScheme(t.Lexical) {
+			return rdf.IRI(t.Lexical), nil
+		}
 		ref, err := url.Parse(t.Lexical)
-		if err != nil {
+		if err != nil || r.base == nil {
 			return nil, errExpr
 		}
-		if !ref.IsAbs() {
-			if r.base == nil {
-				return nil, errExpr
-			}
-			ref = r.base.ResolveReference(ref)
-		}
-		return rdf.IRI(ref.String()), nil
+		return rdf.IRI(r.base.ResolveReference(ref).String()), nil
 	}
 	return nil, errExpr
+}
+
+// hasScheme reports whether s starts with an IRI scheme and its colon
+// (RFC 3986 §3.1: ALPHA *( ALPHA / DIGIT / "+" / "-" / "." ) ":").
+func hasScheme(s string) bool {
+	for i := 0; i < len(s); i++ {
+		c := s[i]
+		switch {
+		case 'a' <= c && c <= 'z' || 'A' <= c && c <= 'Z':
+		case i > 0 && ('0' <= c && c <= '9' || c == '+' || c == '-' || c == '.'):
+		case i > 0 && c == ':':
+			return true
+		default:
+			return false
+		}
+	}
+	return false
 }
 
 func strdtFn(_ *run, a []rdf.Term) (rdf.Term, error) {

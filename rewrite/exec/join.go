@@ -43,9 +43,11 @@ func (b *builder) join(left, right rewrite.Op, kind int, expr algebra.Expr) (nod
 		}
 	}
 	if expr != nil {
-		if it.filter, err = b.c.expr(expr); err != nil {
+		f, err := b.c.expr(expr)
+		if err != nil {
 			return node{}, err
 		}
+		it.filter = []evalFn{f}
 	}
 	if kind == joinMinus {
 		return node{it: it, scope: l.scope}, nil
@@ -59,7 +61,7 @@ type joinIter struct {
 	left, right iterator
 	shared      []int // slots both sides may bind
 	rightScope  []int
-	filter      evalFn // LeftJoin's expression, or nil
+	filter      []evalFn // LeftJoin's expression, or none
 
 	built bool
 	rows  [][]rdf.Term // the right solutions
@@ -228,7 +230,7 @@ func (j *joinIter) probe(sol []rdf.Term) error {
 		case joinLeft:
 			m := j.merge(sol, row)
 			if j.filter != nil {
-				keep, err := j.r.holds([]evalFn{j.filter}, m)
+				keep, err := j.r.holds(j.filter, m)
 				if err != nil {
 					return err
 				}

@@ -403,7 +403,7 @@ type fakeSource struct {
 	queries, read, closed int
 }
 
-func (f *fakeSource) Dialect() source.Dialect { return source.SQLite }
+func (f *fakeSource) Dialect() source.Dialect    { return source.SQLite }
 func (f *fakeSource) Ping(context.Context) error { return nil }
 func (f *fakeSource) Close() error               { return nil }
 

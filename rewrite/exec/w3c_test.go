@@ -346,7 +346,7 @@ func readSRX(src []byte) (expected, error) {
 		Boolean *bool `xml:"boolean"`
 		Results []struct {
 			Bindings []struct {
-				Name    string `xml:"name,attr"`
+				Name    string  `xml:"name,attr"`
 				URI     *string `xml:"uri"`
 				BNode   *string `xml:"bnode"`
 				Literal *struct {
