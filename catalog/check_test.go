@@ -3,12 +3,14 @@ package catalog_test
 import (
 	"context"
 	"errors"
+	"fmt"
 	"strings"
 	"testing"
 	"unicode/utf8"
 
 	"veneer/catalog"
 	"veneer/catalog/r2rml"
+	"veneer/catalog/source"
 	"veneer/catalog/source/sourcetest"
 )
 
@@ -123,4 +125,41 @@ func textPos(t *testing.T, src, text string) (int, int) {
 	}
 	before := src[:i]
 	return strings.Count(before, "\n") + 1, utf8.RuneCountInString(before[strings.LastIndexByte(before, '\n')+1:]) + 1
+}
+
+// TestLookupCase checks how a mapping's column names find the columns of
+// each database. A delimited name matches exactly (R2RML §5: SQL
+// identifiers). A regular name matches as the database resolves it: in
+// PostgreSQL folded to lower case, so a regular Name misses the column
+// created as "Name" (W3C RDB2RDF test R2RMLTC0002f); MySQL and SQLite keep
+// the case a column was created with, delimited or not, and compare names
+// without regard to case, so there it finds it.
+func TestLookupCase(t *testing.T) {
+	const mapping = `@prefix rr: <http://www.w3.org/ns/r2rml#> .
+<http://example.com/m> rr:logicalTable [ rr:tableName "turbine" ] ;
+    rr:subjectMap [ rr:template "http://example.com/t/{SerialNo}" ] ;
+    rr:predicateObjectMap [ rr:predicate <http://example.com/p> ; rr:objectMap [ rr:column "%s" ] ] .
+`
+	sourcetest.ForEach(t, func(t *testing.T, db *sourcetest.DB) {
+		db.Exec(t, `CREATE TABLE turbine (SerialNo VARCHAR(20), "Name" VARCHAR(20))`)
+		src := db.Open(t)
+		for _, tt := range []struct {
+			column string
+			found  bool
+		}{
+			{`\"Name\"`, true},
+			{`\"name\"`, false},
+			{"Name", db.Dialect != source.Postgres},
+			{"SERIALNO", true},
+		} {
+			cat, err := r2rml.Load("case.ttl", []byte(fmt.Sprintf(mapping, tt.column)))
+			if err != nil {
+				t.Fatal(err)
+			}
+			_, err = catalog.ProbeColumns(context.Background(), src, cat)
+			if found := err == nil; found != tt.found {
+				t.Errorf("column %s: found %v, want %v (%v)", tt.column, found, tt.found, err)
+			}
+		}
+	})
 }

@@ -103,7 +103,9 @@ func (c *Columns) probe(ctx context.Context, src source.Source, t LogicalTable, 
 	}
 	// The probe reads no row: "1 = 0" is the planner's own constant, not a value.
 	rows, err := src.Query(ctx, "SELECT * FROM "+from+" WHERE 1 = 0")
+	var cols []source.Column
 	if err == nil {
+		cols = rows.Columns()
 		for rows.Next() {
 		}
 		err = rows.Err()
@@ -118,7 +120,6 @@ func (c *Columns) probe(ctx context.Context, src source.Source, t LogicalTable, 
 		}
 		return fmt.Errorf("reading the columns of table %s: %w", t.TableName, err)
 	}
-	cols := rows.Columns()
 	if name, dup := duplicateColumn(cols, src.Dialect()); dup && t.Query != "" {
 		// R2RML §5.4: the result of an R2RML view must not have duplicate column names.
 		return fmt.Errorf("the result of the R2RML view has more than one column named %s: name each column once (with AS)", name)
@@ -129,7 +130,7 @@ func (c *Columns) probe(ctx context.Context, src source.Source, t LogicalTable, 
 
 // duplicateColumn finds a name that two result columns of a view share.
 // SQLite renames the second of two equal names in a subquery, such as the
-// probe's, to "name:1" (as its query planner does, seen in its source code),
+// probe's, to "name:1" (from memory of its source code; TestCheck shows it),
 // so there such a pair counts as a repeat too.
 func duplicateColumn(cols []source.Column, d source.Dialect) (string, bool) {
 	seen := map[string]bool{}

@@ -99,7 +99,7 @@ func (t Template) CheckIRI() error {
 		beforeColumn := i+1 < len(t.Parts)
 		for j, r := range p.Text {
 			switch {
-			case !rdf.IsIRIChar(r):
+			case !iriChar(r):
 				return fmt.Errorf("the template's text has %q, which no IRI may contain (write it percent-encoded: %s)", r, IRISafe(string(r)))
 			case r == '#':
 				if hashes++; hashes > 1 {
@@ -426,10 +426,10 @@ func ParseLexical(lexical string, kind source.TypeKind) (any, bool) {
 // base IRI; a result that is not a valid IRI is a data error.
 func (m TermMap) MakeIRI(s string) (rdf.IRI, error) {
 	iri := s
-	if !absoluteIRI(s) {
+	if !rdf.IsAbsoluteIRI(s) {
 		iri = m.Base + s
 	}
-	if !absoluteIRI(iri) || !validIRIChars(iri) {
+	if !rdf.IsAbsoluteIRI(iri) || !validIRIChars(iri) {
 		return "", fmt.Errorf("data error: %q is not a valid IRI (R2RML §11)", iri)
 	}
 	return rdf.IRI(iri), nil
@@ -440,37 +440,23 @@ func (m TermMap) MakeIRI(s string) (rdf.IRI, error) {
 func (m TermMap) Unbase(iri string) []string {
 	out := []string{iri}
 	if m.Base != "" && strings.HasPrefix(iri, m.Base) {
-		if rest := iri[len(m.Base):]; !absoluteIRI(rest) {
+		if rest := iri[len(m.Base):]; !rdf.IsAbsoluteIRI(rest) {
 			out = append(out, rest)
 		}
 	}
 	return out
 }
 
-// absoluteIRI reports whether s starts with a scheme (RFC 3987: ALPHA *( ALPHA /
-// DIGIT / "+" / "-" / "." ) ":").
-func absoluteIRI(s string) bool {
-	for i := 0; i < len(s); i++ {
-		c := s[i]
-		switch {
-		case 'a' <= c && c <= 'z' || 'A' <= c && c <= 'Z':
-		case i > 0 && ('0' <= c && c <= '9' || c == '+' || c == '-' || c == '.'):
-		case i > 0 && c == ':':
-			return true
-		default:
-			return false
-		}
-	}
-	return false
-}
-
-// validIRIChars reports whether s holds only characters an IRI may contain
-// (RFC 3987: no spaces, controls, or <>"{}|\^`).
+// validIRIChars reports whether s holds only characters an IRI may contain.
 func validIRIChars(s string) bool {
 	for _, r := range s {
-		if r <= 0x20 || r == 0x7f || strings.ContainsRune(`<>"{}|\^`+"`", r) {
+		if !iriChar(r) {
 			return false
 		}
 	}
 	return true
 }
+
+// iriChar reports whether r may stand in an IRI (RFC 3987: no spaces,
+// controls, or <>"{}|\^`).
+func iriChar(r rune) bool { return r != 0x7f && rdf.IsIRIChar(r) }

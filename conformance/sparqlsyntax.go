@@ -2,7 +2,6 @@ package conformance
 
 import (
 	"context"
-	"errors"
 	"fmt"
 	"net/url"
 	"os"
@@ -14,10 +13,10 @@ import (
 	"veneer/rewrite/sparql"
 )
 
-// The SPARQL suites under rdf-tests/sparql: each test directory has a
-// manifest.ttl whose mf:Manifest lists its tests in an mf:entries collection.
-// A test's rdf:type says what is expected of its query, which is the file
-// mf:action names, or the qt:query of the mf:action of an evaluation test.
+// The vocabulary of the SPARQL suites' manifests (rdf-tests/ns): each test
+// directory has a manifest.ttl whose mf:Manifest lists its tests in an
+// mf:entries collection. A syntax test's mf:action is its query file; an
+// evaluation test's mf:action is a node whose qt:query is.
 const (
 	testManifestNS = "http://www.w3.org/2001/sw/DataAccess/tests/test-manifest#"
 	mfManifest     = rdf.IRI(testManifestNS + "Manifest")
@@ -26,78 +25,45 @@ const (
 	qtQuery        = rdf.IRI("http://www.w3.org/2001/sw/DataAccess/tests/test-query#query")
 )
 
-// queryExpectations say, for each type of test that has a query, what
-// veneer's parser and translation must make of the query (SPARQL 1.1 Test
-// Cases, the mf: vocabulary under rdf-tests/ns): accept it, reject it as
-// malformed, or refuse it as a well-formed update, the endpoint being
-// read-only. Evaluation tests need a valid query too.
-var queryExpectations = map[string]expectation{
-	"PositiveSyntaxTest":         accept,
-	"PositiveSyntaxTest11":       accept,
-	"QueryEvaluationTest":        accept,
-	"CSVResultFormatTest":        accept,
-	"NegativeSyntaxTest":         reject,
-	"NegativeSyntaxTest11":       reject,
-	"PositiveUpdateSyntaxTest11": refuseUpdate,
-	"NegativeUpdateSyntaxTest11": reject,
+// sparqlSyntaxDirs are the test directories of the suite sparql-syntax,
+// under rdf-tests/sparql.
+var sparqlSyntaxDirs = []string{
+	"sparql11/syntax-query", "sparql11/syntax-fed",
+	"sparql10/syntax-sparql1", "sparql10/syntax-sparql2", "sparql10/syntax-sparql3",
+	"sparql10/syntax-sparql4", "sparql10/syntax-sparql5",
 }
-
-type expectation int
-
-const (
-	accept expectation = iota + 1
-	reject
-	refuseUpdate
-)
 
 // SPARQLSyntax is the suite "sparql-syntax": the syntax tests of SPARQL 1.1
 // Query (sparql11/syntax-query), of federated query (sparql11/syntax-fed) and
-// of SPARQL 1.0 (sparql10/syntax-sparql1 to 5). A positive test passes when
-// its query parses and translates to algebra, a negative one when either step
-// rejects it with a syntax error.
-func SPARQLSyntax() Suite {
-	return sparqlQuerySuite{name: "sparql-syntax", dirs: []string{
-		"sparql11/syntax-query", "sparql11/syntax-fed",
-		"sparql10/syntax-sparql1", "sparql10/syntax-sparql2", "sparql10/syntax-sparql3",
-		"sparql10/syntax-sparql4", "sparql10/syntax-sparql5",
-	}}
-}
+// of SPARQL 1.0 (sparql10/syntax-sparql1 to 5), as their manifests list them.
+// A positive test passes when its query parses and translates to algebra, a
+// negative one when either step rejects it with a syntax error (the rules of
+// algebra.W3CVerdict). Each directory is a group; a test's identifier is its
+// directory and its name in the manifest (the fragment of its IRI), such as
+// "sparql11/syntax-query/test_1".
+func SPARQLSyntax() Suite { return sparqlSyntaxSuite{} }
 
-// SPARQLQueries is a suite named "sparql-queries" over the given test
-// directories of rdf-tests/sparql (such as "sparql11/bind"): it checks what
-// veneer makes of the query of every test the manifests list, by the rules of
-// SPARQLSyntax; an evaluation test's query must be accepted, a well-formed
-// update request refused as read-only. Tests without a query file (protocol,
-// service description) are not part of it.
-func SPARQLQueries(dirs ...string) Suite {
-	return sparqlQuerySuite{name: "sparql-queries", dirs: dirs}
-}
+type sparqlSyntaxSuite struct{}
 
-type sparqlQuerySuite struct {
-	name string
-	dirs []string
-}
+func (sparqlSyntaxSuite) Name() string        { return "sparql-syntax" }
+func (sparqlSyntaxSuite) NeedsDatabase() bool { return false }
 
-func (s sparqlQuerySuite) Name() string      { return s.name }
-func (sparqlQuerySuite) NeedsDatabase() bool { return false }
-
-func (s sparqlQuerySuite) Load(dir string) ([]*Group, error) {
+func (sparqlSyntaxSuite) Load(dir string) ([]*Group, error) {
 	root := filepath.Join(dir, "rdf-tests", "sparql")
 	var groups []*Group
-	for _, d := range s.dirs {
-		g, err := loadSPARQLDir(filepath.Join(root, filepath.FromSlash(d)))
+	for _, d := range sparqlSyntaxDirs {
+		g, err := loadSyntaxDir(root, d)
 		if err != nil {
 			return nil, err
 		}
-		g.Name = d
 		groups = append(groups, g)
 	}
 	return groups, nil
 }
 
-// loadSPARQLDir reads the manifest of one test directory.
-func loadSPARQLDir(dir string) (*Group, error) {
-	m, err := ReadManifest(filepath.Join(dir, "manifest.ttl"))
+// loadSyntaxDir reads the manifest of one test directory, d under root.
+func loadSyntaxDir(root, d string) (*Group, error) {
+	m, err := ReadManifest(filepath.Join(root, filepath.FromSlash(d), "manifest.ttl"))
 	if err != nil {
 		return nil, err
 	}
@@ -116,53 +82,45 @@ func loadSPARQLDir(dir string) (*Group, error) {
 	if err != nil {
 		return nil, err
 	}
-	g := &Group{}
+	g := &Group{Name: d}
 	for _, e := range entries {
-		t, ok, err := readSPARQLTest(m, e)
+		t, err := readSyntaxTest(m, d, e)
 		if err != nil {
 			return nil, err
 		}
-		if ok {
-			g.Tests = append(g.Tests, t)
-		}
+		g.Tests = append(g.Tests, t)
 	}
 	return g, nil
 }
 
-// readSPARQLTest reads one entry; ok is false for a test without a query.
-func readSPARQLTest(m *Manifest, entry rdf.Term) (t Test, ok bool, err error) {
-	id := entry.String()
-	if iri, isIRI := entry.(rdf.IRI); isIRI {
-		id = string(iri)
+// readSyntaxTest reads one entry of the manifest of directory d.
+func readSyntaxTest(m *Manifest, d string, entry rdf.Term) (Test, error) {
+	iri, ok := entry.(rdf.IRI)
+	_, name, hasName := strings.Cut(string(iri), "#")
+	if !ok || !hasName || name == "" {
+		return Test{}, m.Errorf(entry, "is not a test IRI with a name after '#'")
 	}
 	ty, err := m.Object(entry, rdf.RDFType)
 	if err != nil {
-		return Test{}, false, err
+		return Test{}, err
 	}
 	tyIRI, _ := ty.(rdf.IRI)
 	kind, _ := strings.CutPrefix(string(tyIRI), testManifestNS)
-	want, known := queryExpectations[kind]
-	if !known {
-		return Test{}, false, nil
+	if _, known := algebra.W3CVerdict(kind, nil); !known {
+		return Test{}, m.Errorf(entry, "has the type %v, which is not a type of test with a query", ty)
 	}
-	subj, pred := entry, mfAction
-	if action, err := m.Object(entry, mfAction); err != nil {
-		return Test{}, false, err
-	} else if _, isIRI := action.(rdf.IRI); !isIRI && action != nil {
-		subj, pred = action, qtQuery
-	}
-	path, err := m.File(subj, pred)
+	path, err := m.File(entry, mfAction)
 	if err != nil {
-		return Test{}, false, err
+		return Test{}, err
 	}
-	run := func(context.Context, *Scratch) error { return checkQueryFile(path, want) }
-	return Test{ID: id, Run: run}, true, nil
+	run := func(context.Context, *Scratch) error { return checkQueryFile(path, kind) }
+	return Test{ID: d + "/" + name, Run: run}, nil
 }
 
 // checkQueryFile parses and translates a test's query, its file: IRI being
-// the base (the retrieval IRI, SPARQL 1.1 Query §4.1.1.2), and says whether
-// the outcome is what the test expects.
-func checkQueryFile(path string, want expectation) error {
+// the base (the retrieval IRI, SPARQL 1.1 Query §4.1.1.2), and judges the
+// outcome by the rules of algebra.W3CVerdict for the test's type.
+func checkQueryFile(path, kind string) error {
 	src, err := os.ReadFile(path)
 	if err != nil {
 		return fmt.Errorf("reading the query: %w", err)
@@ -176,20 +134,10 @@ func checkQueryFile(path string, want expectation) error {
 	if err == nil {
 		_, err = algebra.Translate(q)
 	}
-	update := errors.Is(err, sparql.ErrUpdate)
-	switch {
-	case want == accept && err != nil:
-		return fmt.Errorf("rejected a valid query: %w", err)
-	case want == reject && err == nil:
-		return errors.New("accepted an invalid query")
-	case want == reject && update:
-		return fmt.Errorf("refused a malformed request as a valid update: %w", err)
-	case want == refuseUpdate && !update:
-		if err == nil {
-			return errors.New("accepted an update request instead of refusing it as read-only")
-		}
-		return fmt.Errorf("rejected a valid update request as malformed: %w", err)
-	case err != nil:
+	if problem, _ := algebra.W3CVerdict(kind, err); problem != nil {
+		return problem
+	}
+	if err != nil {
 		return FailedAsExpected(err)
 	}
 	return nil

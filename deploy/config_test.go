@@ -170,3 +170,19 @@ func TestConfigDecodingIsStrict(t *testing.T) {
 		})
 	}
 }
+
+// TestContractIsConsistent checks the contract's values that repeat one
+// another.
+func TestContractIsConsistent(t *testing.T) {
+	if want := fmt.Sprintf("0.0.0.0:%d", Port); ContainerListen != want {
+		t.Errorf("ContainerListen %q, want %q", ContainerListen, want)
+	}
+	if path.Dir(ConfigFile) != ConfigDir || path.Dir(TokensFile) != SecretsDir {
+		t.Errorf("ConfigFile %s and TokensFile %s are not in ConfigDir %s and SecretsDir %s", ConfigFile, TokensFile, ConfigDir, SecretsDir)
+	}
+	for _, p := range []string{QueryPath, HealthPath, ReadyPath, MetricsPath} {
+		if !strings.HasPrefix(p, "/") {
+			t.Errorf("path %q does not start with /", p)
+		}
+	}
+}

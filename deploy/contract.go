@@ -42,12 +42,11 @@ const (
 const (
 	// ConfigFlag is the serve flag that names the YAML config file.
 	ConfigFlag = "config"
-	// ConfigDir is where the ConfigMap's config key is mounted.
+	// ConfigDir is where the ConfigMap is mounted: the config file and the
+	// mapping files it names, one per key.
 	ConfigDir = "/etc/veneer/config"
 	// ConfigFile is the YAML config file veneer serve reads (--config).
 	ConfigFile = ConfigDir + "/veneer.yaml"
-	// MappingsDir is where the ConfigMap's mapping keys are mounted.
-	MappingsDir = "/etc/veneer/mappings"
 	// SecretsDir is where the Secret's tokens key is mounted.
 	SecretsDir = "/etc/veneer/secrets"
 	// TokensFile holds the bearer tokens, one a line.
@@ -64,7 +63,7 @@ const (
 	ConfigMapName = "veneer-config"
 )
 
-// UID is the numeric user the image runs as (the distroless "nonroot" user,
+// UID is the numeric user the image runs as (the run image's "nonroot" user,
 // 65532, from memory of that image's conventions): numeric, so that the
 // kubelet can check runAsNonRoot without looking inside the image.
 const UID = 65532

@@ -280,7 +280,7 @@ func TestBase(t *testing.T) {
 // kubectl, decodes the output strictly, and checks it like the base; the
 // overlay must also put everything in its namespace and set the image.
 func TestRendered(t *testing.T) {
-	kubectl := needTool(t, "kubectl", "kubectl")
+	kubectl := needTool(t, "kubectl", "kubectl 1.21 or later, whose built-in kustomize reads the patches field")
 	for _, dir := range []string{baseDir, overlayDir} {
 		t.Run(dir, func(t *testing.T) {
 			out := runTool(t, ".", kubectl, "kustomize", dir)

@@ -58,13 +58,13 @@ func readRules(t *testing.T) *ruleFile {
 // TestRulesCheck runs promtool's own check of the rule file: syntax, PromQL,
 // templates.
 func TestRulesCheck(t *testing.T) {
-	promtool := needTool(t, "promtool", "prometheus")
+	promtool := needTool(t, "promtool", "Debian package prometheus")
 	runTool(t, "prometheus", promtool, "check", "rules", "rules.yaml")
 }
 
 // TestRulesUnit runs the rules' unit tests with promtool.
 func TestRulesUnit(t *testing.T) {
-	promtool := needTool(t, "promtool", "prometheus")
+	promtool := needTool(t, "promtool", "Debian package prometheus")
 	runTool(t, "prometheus", promtool, "test", "rules", "rules_test.yaml")
 }
 

@@ -10,19 +10,19 @@ import (
 )
 
 // needTool returns the path of an external tool the tests run, or skips the
-// test with a message starting "no tool:" when it is missing. Under CI=true a
-// missing tool fails the test: .ci/run installs every tool these tests use
-// (Debian's prometheus package for promtool; kubectl comes with the machine).
-func needTool(t *testing.T, name, pkg string) string {
+// test with a message starting "no tool:" when it is missing; where says how
+// to get it. Under CI=true a missing tool fails the test: CI provides every
+// tool these tests use.
+func needTool(t *testing.T, name, where string) string {
 	t.Helper()
 	path, err := exec.LookPath(name)
 	if err == nil {
 		return path
 	}
 	if os.Getenv("CI") == "true" {
-		t.Fatalf("no tool: %s is not on PATH, and CI=true needs it (Debian package %s)", name, pkg)
+		t.Fatalf("no tool: %s is not on PATH, and CI=true needs it (%s)", name, where)
 	}
-	t.Skipf("no tool: %s is not on PATH (install Debian package %s to run this test)", name, pkg)
+	t.Skipf("no tool: %s is not on PATH (%s)", name, where)
 	return ""
 }
 

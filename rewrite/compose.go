@@ -458,6 +458,23 @@ func valuesSide(n algebra.Join) (algebra.Values, algebra.Node, bool) {
 // produce drop out without SQL. It fails when a VALUES variable is not bound by
 // one term map in every branch: the data would have to supply its value.
 func (q *query) restrict(r *rel, vals algebra.Values) bool {
+	// Conditions keep a row or not; they cannot repeat it. So the data must not
+	// let two of its rows join one row: no repeated rows, and no UNDEF (a row with
+	// UNDEF joins what a fuller row joins too).
+	seen := map[string]bool{}
+	for _, row := range vals.Rows {
+		key := ""
+		for _, t := range row {
+			if t == nil {
+				return false
+			}
+			key += t.String() + " "
+		}
+		if seen[key] {
+			return false
+		}
+		seen[key] = true
+	}
 	var kept []*branch
 	for _, b := range r.branches {
 		for _, v := range vals.Vars {
@@ -470,9 +487,6 @@ func (q *query) restrict(r *rel, vals algebra.Values) bool {
 			var conds []sql.Expr
 			match := true
 			for i, v := range vals.Vars {
-				if row[i] == nil {
-					continue // UNDEF is compatible with anything
-				}
 				c, ok := q.constConds(b.vars[v].alts[0], row[i])
 				if !ok {
 					match = false

@@ -274,7 +274,8 @@ func kindClass(k source.TypeKind) class {
 // value, strings by code point, unbound first).
 func (q *query) orderBy(r *rel, conds []algebra.OrderCond) (func([]Slot) ([]orderCol, bool), bool) {
 	for _, c := range conds {
-		if _, ok := c.Expr.(algebra.Var); !ok {
+		v, ok := c.Expr.(algebra.Var)
+		if !ok || !orderable(r, v) {
 			return nil, false
 		}
 	}
@@ -311,4 +312,33 @@ func (q *query) orderBy(r *rel, conds []algebra.OrderCond) (func([]Slot) ([]orde
 		}
 		return out, true
 	}, true
+}
+
+// orderable reports whether SQL can order by v as SPARQL does: every branch builds
+// it with one shape, a typed literal column of a class SQL orders by value.
+func orderable(r *rel, v algebra.Var) bool {
+	key := ""
+	for _, b := range r.branches {
+		bd, ok := b.vars[v]
+		if !ok {
+			continue
+		}
+		if len(bd.alts) != 1 {
+			return false
+		}
+		o := bd.alts[0]
+		if o.m.Kind != catalog.Column || o.m.TermType != rdf.KindLiteral || o.m.Language != "" {
+			return false
+		}
+		natural := catalog.NaturalDatatype(o.cols[0].Kind)
+		if o.m.Datatype != "" && o.m.Datatype != natural || kindClass(o.cols[0].Kind) == classNone {
+			return false
+		}
+		if k := groupKey(o); key == "" {
+			key = k
+		} else if k != key {
+			return false
+		}
+	}
+	return true
 }

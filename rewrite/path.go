@@ -185,9 +185,16 @@ func (q *query) closure(p algebra.Path, s, o algebra.Var, graph algebra.Item, st
 		return nil, nil
 	}
 	sb, ob := stepClosed.slots[0].Builders, stepClosed.slots[1].Builders
-	if stepClosed.slots[0].Var != s || len(sb) != 1 || len(ob) != 1 ||
-		groupKey(occurrence{m: sb[0].Map, cols: colsAt(stepClosed.types, sb[0].Cols)}) !=
-			groupKey(occurrence{m: ob[0].Map, cols: colsAt(stepClosed.types, ob[0].Cols)}) {
+	if stepClosed.slots[0].Var != s || len(sb) != 1 || len(ob) != 1 {
+		return nil, nil
+	}
+	startShape := occurrence{m: sb[0].Map, cols: colsAt(stepClosed.types, sb[0].Cols)}
+	endShape := occurrence{m: ob[0].Map, cols: colsAt(stepClosed.types, ob[0].Cols)}
+	if groupKey(startShape) != groupKey(endShape) {
+		// A step's end can never be a step's start: no path is longer than one step.
+		if !q.mayEqual(startShape, endShape) {
+			return q.path(p, s, o, graph, nil)
+		}
 		return nil, nil
 	}
 	anchor := stepClosed
@@ -339,4 +346,17 @@ func (q *query) recursionType(e sql.Expr, col source.Column) sql.Expr {
 		return sql.Cast{X: e, Type: "NUMERIC"}
 	}
 	return e
+}
+
+// mayEqual reports whether two shapes can build the same term.
+func (q *query) mayEqual(a, b occurrence) bool {
+	fill := func(o occurrence) occurrence {
+		o.exprs = make([]sql.Expr, len(o.cols))
+		for i := range o.exprs {
+			o.exprs[i] = sql.Null{}
+		}
+		return o
+	}
+	_, _, ok := q.unify(fill(a), fill(b))
+	return ok
 }

@@ -13,7 +13,7 @@ import (
 )
 
 // FromExec adapts veneer's query engine to the server. The engine answers
-// SELECT queries over the service's own dataset; a request that names a
+// the four query forms over the service's own dataset; a request that names a
 // dataset with default-graph-uri or named-graph-uri is refused with a client
 // error until the engine takes one.
 func FromExec(e *exec.Engine) Engine { return execEngine{e} }
@@ -32,9 +32,7 @@ func (x execEngine) Query(ctx context.Context, q Query) (*Answer, error) {
 	if err != nil {
 		return nil, err
 	}
-	return &Answer{
-		Kind:      results.Solutions,
-		Solutions: c,
+	a := &Answer{
 		// The cursor does not show its plan; planning again is cheap next to
 		// a query slow enough to be logged.
 		SQL: func() []string {
@@ -44,7 +42,22 @@ func (x execEngine) Query(ctx context.Context, q Query) (*Answer, error) {
 			}
 			return []string{rewrite.Explain(p)}
 		},
-	}, nil
+		Stats: func() Stats { return Stats{ResidualEvaluations: c.ResidualEvaluations()} },
+	}
+	switch c.Form() {
+	case algebra.Select:
+		a.Kind, a.Solutions = results.Solutions, c
+	case algebra.Ask:
+		a.Kind, a.Boolean = results.Boolean, c.Boolean()
+		err := c.Err()
+		c.Close()
+		if err != nil {
+			return nil, err
+		}
+	default:
+		a.Kind, a.Graph = results.Graph, c
+	}
+	return a, nil
 }
 
 // Ready implements Engine.

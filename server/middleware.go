@@ -159,7 +159,7 @@ func (s *Server) account(r *http.Request, info *requestInfo, rec *recorder, star
 	switch {
 	case route == "health" || route == "metrics":
 		level = slog.LevelDebug
-	case aborted || status >= 500:
+	case aborted || status >= 500 && status != http.StatusServiceUnavailable:
 		level = slog.LevelWarn
 	}
 	s.log.LogAttrs(r.Context(), level, "request",
@@ -194,15 +194,25 @@ func (s *Server) handle(route string, h handlerFunc) http.HandlerFunc {
 		p := problemOf(err)
 		rec, _ := w.(*recorder)
 		if rec != nil && rec.committed() {
-			s.metrics.streamFailures.Inc()
-			s.log.Error("the answer failed while streaming; response aborted",
-				"request_id", info.id, "status", p.status, "err", err)
+			if p.status == statusCanceled {
+				s.log.Debug("the client went away while the answer streamed", "request_id", info.id)
+			} else {
+				s.metrics.streamFailures.Inc()
+				s.log.Error("the answer failed while streaming; response aborted",
+					"request_id", info.id, "status", p.status, "err", err)
+			}
 			panic(http.ErrAbortHandler)
 		}
 		switch {
+		case p.status == statusCanceled:
+			s.log.Debug("the client went away", "request_id", info.id)
+		case p.status == http.StatusServiceUnavailable && p.err == nil:
+			// Refused by the concurrency limit, which counts it; under
+			// overload a line for each would flood the log.
+			s.log.Debug("request refused", "request_id", info.id, "reason", p.msg)
 		case p.status == http.StatusServiceUnavailable:
 			s.log.Warn("request not answered", "request_id", info.id, "status", p.status, "err", err)
-		case p.status >= 500 && p.status != statusCanceled:
+		case p.status >= 500:
 			s.log.Error("request failed", "request_id", info.id, "status", p.status, "err", err)
 		case p.status < 500:
 			s.log.Info("request refused", "request_id", info.id, "status", p.status, "reason", oneLine(p.Error()))

@@ -25,7 +25,7 @@ type problem struct {
 }
 
 func (p *problem) Error() string {
-	if p.err != nil {
+	if p.err != nil && p.err.Error() != p.msg {
 		return p.msg + ": " + p.err.Error()
 	}
 	return p.msg

@@ -2,6 +2,8 @@ package r2rml
 
 import (
 	"context"
+	"fmt"
+	"os"
 	"path/filepath"
 	"slices"
 	"strings"
@@ -108,4 +110,57 @@ func checkW3C(t *testing.T, src source.Source, rt r2rmlTest, needsDB map[string]
 		return 1, 0
 	}
 	return 0, 0
+}
+
+// TestLoadPartial loads a mapping whose mistakes leave parts out: a triples map
+// without a logical table, a reference to it, and a reference to a map that
+// does not exist. What remains must be checkable, and the check must report
+// the mistakes together with what the database says.
+func TestLoadPartial(t *testing.T) {
+	const mapping = `@prefix rr: <http://www.w3.org/ns/r2rml#> .
+@base <http://example.com/m/> .
+<NoTable> rr:subjectMap [ rr:template "http://example.com/x/{id}" ] .
+<Site> rr:logicalTable [ rr:tableName "site" ] ;
+    rr:subjectMap [ rr:template "http://example.com/site/{code}" ] ;
+    rr:predicateObjectMap [ rr:predicate <http://example.com/p> ; rr:objectMap [ rr:parentTriplesMap <NoTable> ] ] ;
+    rr:predicateObjectMap [ rr:predicate <http://example.com/q> ; rr:objectMap [ rr:parentTriplesMap <Nowhere> ] ] ;
+    rr:predicateObjectMap [ rr:predicate <http://example.com/r> ; rr:objectMap [ rr:column "nme" ] ] .
+`
+	path := filepath.Join(t.TempDir(), "partial.ttl")
+	if err := os.WriteFile(path, []byte(mapping), 0o600); err != nil {
+		t.Fatal(err)
+	}
+	cat, mistakes, err := LoadPartial(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(cat.Maps) != 1 || len(cat.Maps[0].PredicateObjects) != 1 {
+		t.Fatalf("kept %d maps (want Site alone) and %v", len(cat.Maps), cat.Maps)
+	}
+	if len(mistakes) < 2 {
+		t.Errorf("mistakes %v, want the missing logical table and the unknown parent", mistakes)
+	}
+	db := sourcetest.New(t, source.SQLite)
+	db.Exec(t, "CREATE TABLE site (code VARCHAR(8), name VARCHAR(20))")
+	rep, err := CheckFiles(context.Background(), db.Open(t), path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var got []string
+	for _, p := range rep.Problems {
+		got = append(got, fmt.Sprintf("%d:%d %s", p.Pos.Line, p.Pos.Col, p.Msg))
+	}
+	want := []string{
+		"3:1 triples map <http://example.com/m/NoTable> has no rr:logicalTable",
+		"7:102 rr:parentTriplesMap <http://example.com/m/Nowhere>: there is no triples map with that name",
+		`8:80 column "nme" is not in table site (it has: code, name)`,
+	}
+	if len(got) != len(want) {
+		t.Fatalf("problems:\n%s\nwant:\n%s", strings.Join(got, "\n"), strings.Join(want, "\n"))
+	}
+	for i := range want {
+		if !strings.HasPrefix(got[i], want[i]) {
+			t.Errorf("problem %d: %s\nwant: %s…", i+1, got[i], want[i])
+		}
+	}
 }

@@ -1,7 +1,9 @@
 // Package r2rml reads W3C R2RML mapping documents, written in Turtle, into the
 // catalog model, and checks them against every rule of the R2RML specification
-// (W3C Recommendation, 2012) that can be checked without the database. Errors
-// name the file, line and column of the offending mapping element.
+// (W3C Recommendation, 2012) that can be checked without the database; CheckFiles
+// adds the checks against the live schema. Errors name the file, line and
+// column of the offending mapping element. Write turns a catalog back into a
+// mapping document.
 package r2rml
 
 import (

@@ -149,7 +149,9 @@ func (l *loader) resolveRefs() {
 		r.ref.Parent = parent
 		// R2RML §8: without join conditions the child and parent rows are the same
 		// rows, which only makes sense when both read the same logical table.
-		if len(r.ref.Joins) == 0 && r.child.Table.Key() != parent.Table.Key() {
+		// (A map without a logical table was reported already.)
+		noTable := func(t catalog.LogicalTable) bool { return t.TableName == "" && t.Query == "" }
+		if len(r.ref.Joins) == 0 && r.child.Table.Key() != parent.Table.Key() && !noTable(r.child.Table) && !noTable(parent.Table) {
 			l.errorf(r.ref.Pos, "referencing object map has no rr:joinCondition, but its parent triples map %s reads %s, not %s: say how the rows join (rr:joinCondition [ rr:child \"...\" ; rr:parent \"...\" ])",
 				l.show(r.parent), describeTable(parent.Table), describeTable(r.child.Table))
 		}

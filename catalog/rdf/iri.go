@@ -18,10 +18,10 @@ type iriParts struct {
 //	^(([^:/?#]+):)?(//([^/?#]*))?([^?#]*)(\?([^#]*))?(#(.*))?
 //
 // except that the part before the first ':' is a scheme only when it has a
-// scheme's characters (see isAbsoluteIRI); otherwise the reference is relative.
+// scheme's characters (see IsAbsoluteIRI); otherwise the reference is relative.
 func splitIRI(s string) iriParts {
 	var p iriParts
-	if i := strings.IndexAny(s, ":/?#"); i > 0 && s[i] == ':' && isAbsoluteIRI(s) {
+	if i := strings.IndexAny(s, ":/?#"); i > 0 && s[i] == ':' && IsAbsoluteIRI(s) {
 		p.scheme, p.hasScheme, s = s[:i], true, s[i+1:]
 	}
 	if strings.HasPrefix(s, "//") {
@@ -65,10 +65,10 @@ func (p iriParts) String() string {
 	return b.String()
 }
 
-// isAbsoluteIRI reports whether s starts with a scheme (RFC 3986 §3.1):
+// IsAbsoluteIRI reports whether s starts with a scheme (RFC 3986 §3.1):
 //
 //	scheme = ALPHA *( ALPHA / DIGIT / "+" / "-" / "." ) ":"
-func isAbsoluteIRI(s string) bool {
+func IsAbsoluteIRI(s string) bool {
 	for i := 0; i < len(s); i++ {
 		c := rune(s[i])
 		switch {
@@ -100,7 +100,7 @@ func ResolveIRI(base, ref string) (string, error) {
 		return t.String(), nil
 	case base == "":
 		return "", ErrNoBase
-	case !isAbsoluteIRI(base):
+	case !IsAbsoluteIRI(base):
 		return "", fmt.Errorf("base IRI %q is not absolute", base)
 	}
 	b := splitIRI(base)

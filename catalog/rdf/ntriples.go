@@ -153,7 +153,7 @@ func (p *lineParser) iriOrBlank(what string) Term {
 
 // iri reads an IRIREF, which must be absolute.
 func (p *lineParser) iri() IRI {
-	if !isAbsoluteIRI(p.tok.val) {
+	if !IsAbsoluteIRI(p.tok.val) {
 		panic(lineError{p.src.errorAt(p.tok.pos, "relative IRI <%s>: N-Triples and N-Quads need absolute IRIs", p.tok.val)})
 	}
 	iri := IRI(p.tok.val)

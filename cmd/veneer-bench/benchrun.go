@@ -38,6 +38,7 @@ type benchOptions struct {
 	iterations int
 	warmup     int
 	budget     time.Duration
+	translate  time.Duration
 	clients    int
 	throughput time.Duration
 	out        string
@@ -54,6 +55,7 @@ func runBench(ctx context.Context, args []string, stdout, stderr io.Writer) erro
 	fs.IntVar(&o.iterations, "iterations", 21, "timed runs of each side per query")
 	fs.IntVar(&o.warmup, "warmup", 3, "untimed runs of each side per query before the timed ones")
 	fs.DurationVar(&o.budget, "budget", 20*time.Second, "time after which a slow query's timed runs stop (at least 3 are made)")
+	fs.DurationVar(&o.translate, "translate-time", 300*time.Millisecond, "time spent timing each query's translation (at least 10 runs)")
 	fs.IntVar(&o.clients, "clients", 64, "concurrent clients of the throughput measurement (0: skip it)")
 	fs.DurationVar(&o.throughput, "throughput", 10*time.Second, "duration of each side's throughput measurement per query (at most 30s)")
 	fs.StringVar(&o.out, "out", "bench-results", "directory for the Markdown and JSON reports")
@@ -152,7 +154,7 @@ func benchmark(ctx context.Context, t gen.Target, o benchOptions, progress io.Wr
 			_, err := planner.Compile(q)
 			return err
 		},
-		Iterations: o.iterations, Warmup: o.warmup, QueryBudget: o.budget,
+		Iterations: o.iterations, Warmup: o.warmup, QueryBudget: o.budget, TranslateBudget: o.translate,
 		Clients: o.clients, ThroughputTime: o.throughput,
 		Progress: progress,
 	}

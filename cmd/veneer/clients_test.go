@@ -6,6 +6,8 @@ import (
 	"crypto/sha256"
 	"encoding/hex"
 	"encoding/json"
+	"errors"
+	"fmt"
 	"io"
 	"net/http"
 	"net/url"
@@ -13,6 +15,7 @@ import (
 	"os/exec"
 	"path/filepath"
 	"slices"
+	"strings"
 	"testing"
 	"time"
 
@@ -83,18 +86,21 @@ func npmInstall(t *testing.T, name string) string {
 	return dir
 }
 
-// node runs a script of dir and returns its standard output.
-func node(t *testing.T, dir string, args ...string) ([]byte, error) {
+// node runs a script of dir with stdin (which may be nil) and returns its
+// standard output.
+func node(t *testing.T, dir string, stdin io.Reader, args ...string) ([]byte, error) {
 	t.Helper()
 	ctx, cancel := context.WithTimeout(context.Background(), 2*time.Minute)
 	defer cancel()
 	cmd := exec.CommandContext(ctx, "node", args...)
-	cmd.Dir = dir
+	cmd.Dir, cmd.Stdin = dir, stdin
 	var stderr bytes.Buffer
 	cmd.Stderr = &stderr
 	out, err := cmd.Output()
 	if err != nil {
-		return nil, &nodeError{err, firstLine(stderr.String())}
+		// The first lines say what failed; the rest is the script's stack.
+		lines := strings.SplitN(stderr.String(), "\n", 4)
+		return nil, &nodeError{err, strings.Join(lines[:min(3, len(lines))], " ")}
 	}
 	return out, nil
 }
@@ -215,35 +221,55 @@ func TestRealClients(t *testing.T) {
 		"ask":       prefixes + `ASK { ?t wf:ratedPowerKW ?kw . FILTER(?kw > 3000) }`,
 		"construct": prefixes + `CONSTRUCT { ?t rdfs:label ?serial } WHERE { ?t wf:serialNumber ?serial }`,
 	}
+	type job struct {
+		Client string `json:"client"`
+		Form   string `json:"form"`
+		Query  string `json:"query"`
+	}
+	var jobs []job
 	for _, client := range []string{"fetch-sparql-endpoint", "sparql-http-client"} {
 		for _, form := range []string{"select", "ask", "construct"} {
-			id := client + "/" + form
-			t.Run(id, func(t *testing.T) {
-				err := clientCheck(t, dir, endpoint, client, form, queries[form])
-				reason, isKnown := known.Reason(id, "sqlite")
-				switch {
-				case err == nil && isKnown:
-					t.Errorf("passes now: remove it from testdata/clients-known-failures.txt (%s)", reason)
-				case err != nil && isKnown:
-					t.Logf("known failure (%s): %v", reason, err)
-				case err != nil:
-					t.Error(err)
-				}
-			})
+			jobs = append(jobs, job{client, form, queries[form]})
 		}
+	}
+	in, _ := json.Marshal(jobs)
+	out, err := node(t, dir, bytes.NewReader(in), "check.mjs", endpoint)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var results []struct {
+		Result json.RawMessage `json:"result"`
+		Error  string          `json:"error"`
+	}
+	if err := json.Unmarshal(out, &results); err != nil || len(results) != len(jobs) {
+		t.Fatalf("the script's output: %v\n%s", err, out)
+	}
+	for i, j := range jobs {
+		id := j.Client + "/" + j.Form
+		t.Run(id, func(t *testing.T) {
+			err := compareAnswer(t, endpoint, j.Form, j.Query, results[i].Result, results[i].Error)
+			reason, isKnown := known.Reason(id, "sqlite")
+			switch {
+			case err == nil && isKnown:
+				t.Errorf("passes now: remove it from testdata/clients-known-failures.txt (%s)", reason)
+			case err != nil && isKnown:
+				t.Logf("known failure (%s): %v", reason, err)
+			case err != nil:
+				t.Error(err)
+			}
+		})
 	}
 }
 
-// clientCheck runs one client on one query and compares what it parsed with
-// the expected answer.
-func clientCheck(t *testing.T, dir, endpoint, client, form, query string) error {
+// compareAnswer compares what a client parsed (or the error it met) with the
+// expected answer.
+func compareAnswer(t *testing.T, endpoint, form, query string, out json.RawMessage, clientErr string) error {
 	want, err := expected(t, endpoint, form, query)
 	if err != nil {
 		return err
 	}
-	out, err := node(t, dir, "check.mjs", endpoint, client, form, query)
-	if err != nil {
-		return err
+	if clientErr != "" {
+		return errors.New(clientErr)
 	}
 	var got any
 	switch form {
@@ -267,12 +293,75 @@ func clientCheck(t *testing.T, dir, endpoint, client, form, query string) error 
 		if err := json.Unmarshal(out, &ts); err != nil {
 			t.Fatalf("%v: %s", err, out)
 		}
+		if len(ts) == 0 {
+			t.Fatal("the query has no answer; the check would compare nothing")
+		}
 		got = canonical(ts)
 	}
 	gb, _ := json.Marshal(got)
 	wb, _ := json.Marshal(want)
 	if !bytes.Equal(gb, wb) {
-		t.Errorf("%s parsed\n%.500s\nveneer's answer is\n%.500s", client, gb, wb)
+		return fmt.Errorf("the client parsed\n%.500s\nveneer's answer is\n%.500s", gb, wb)
 	}
 	return nil
+}
+
+// TestFederatedQuery has the query engine from the npm registry join two
+// veneer instances, one over PostgreSQL and one over MariaDB (each with the
+// demo), with SERVICE, and checks that it gets the same solutions as the
+// same join asked of one instance.
+func TestFederatedQuery(t *testing.T) {
+	needNode(t)
+	pgDSN, _ := demoOnPostgres(t)
+	myDSN, _ := demoOnMySQL(t)
+	federate(t, pgDSN, myDSN)
+}
+
+// federate runs the federation check over two sources given by DSN.
+func federate(t *testing.T, dsnA, dsnB string) {
+	t.Helper()
+	known := readList(t, "clients-known-failures.txt")
+	dir := npmInstall(t, "federation")
+	var endpoints []string
+	for _, dsn := range []string{dsnA, dsnB} {
+		src, err := openSource(context.Background(), &sourceConf{DB: dsn})
+		if err != nil {
+			t.Fatal(err)
+		}
+		t.Cleanup(func() { src.Close() })
+		endpoints = append(endpoints, startServer(t, src, demoCatalog, nil))
+	}
+	single := prefixes + `SELECT ?serial ?kw WHERE { ?t wf:serialNumber ?serial ; wf:ratedPowerKW ?kw }`
+	federated := prefixes + `SELECT ?serial ?kw WHERE {
+		SERVICE <` + endpoints[0] + `> { ?t wf:serialNumber ?serial }
+		SERVICE <` + endpoints[1] + `> { ?t wf:ratedPowerKW ?kw } }`
+	want, err := expected(t, endpoints[0], "select", single)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(want.([]string)) == 0 {
+		t.Fatal("the single-instance query has no answer; the check would compare nothing")
+	}
+	const id = "comunica/federated-join"
+	reason, isKnown := known.Reason(id, "none")
+	out, err := node(t, dir, nil, "federate.mjs", endpoints[0], federated)
+	var got []string
+	if err == nil {
+		var rows []map[string]jsTerm
+		if jerr := json.Unmarshal(out, &rows); jerr != nil {
+			t.Fatalf("%v: %s", jerr, out)
+		}
+		got = canonical(rows)
+		if !slices.Equal(got, want.([]string)) {
+			err = errors.New("the federated answer differs from the single-instance answer")
+		}
+	}
+	switch {
+	case err == nil && isKnown:
+		t.Errorf("passes now: remove %s from testdata/clients-known-failures.txt (%s)", id, reason)
+	case err != nil && isKnown:
+		t.Logf("known failure (%s): %v", reason, err)
+	case err != nil:
+		t.Errorf("%v: %d solutions, want %d", err, len(got), len(want.([]string)))
+	}
 }

@@ -126,7 +126,7 @@ var options = []option{
 		set: str(func(c *config) *string { return &c.source().DB })},
 	{flag: "mapping", env: "VENEER_MAPPINGS", source: true, list: true,
 		usage: "R2RML mapping file, repeatable; none serves the Direct Mapping (YAML sources[0].mappings)",
-		set: func(c *config, v []string) error { c.source().Mappings = v; return nil }},
+		set:   func(c *config, v []string) error { c.source().Mappings = v; return nil }},
 	{flag: "max-conns", env: "VENEER_MAX_CONNS", source: true, usage: "most connections to the database (YAML sources[0].max_conns)",
 		set: integer(func(c *config) *int { return &c.source().MaxConns })},
 	{flag: "base", env: "VENEER_BASE", source: true, usage: "base IRI of the Direct Mapping (YAML base)",

@@ -72,7 +72,9 @@ func startServer(t *testing.T, src source.Source, load func(context.Context) (*c
 		edit(&cfg)
 	}
 	addrc, done := make(chan string, 1), make(chan error, 1)
-	go func() { done <- serve(ctx, &cfg, src, load, console.Options{}, testLog{t}, func(a string) { addrc <- a }) }()
+	go func() {
+		done <- serve(ctx, &cfg, src, load, console.Options{}, testLog{t}, func(a string) { addrc <- a })
+	}()
 	t.Cleanup(func() {
 		cancel()
 		if err := <-done; err != nil {
@@ -516,7 +518,7 @@ func TestW3CServiceDescription(t *testing.T) {
 					if st.O.Kind() != rdf.KindIRI || !containsTerm(types[st.S], rdf.IRI(sdNS+"Service")) {
 						t.Errorf("sd:endpoint %s on a subject that is not an sd:Service", st.O)
 					}
-				case rdf.IRI(sdNS+"resultFormat"), rdf.IRI(sdNS+"supportedLanguage"), rdf.IRI(sdNS+"defaultEntailmentRegime"):
+				case rdf.IRI(sdNS + "resultFormat"), rdf.IRI(sdNS + "supportedLanguage"), rdf.IRI(sdNS + "defaultEntailmentRegime"):
 					if st.O.Kind() != rdf.KindIRI {
 						t.Errorf("%s has a non-IRI object %s", st.P, st.O)
 					}

@@ -117,6 +117,18 @@ func TestScopeErrors(t *testing.T) {
 		// §18.2.1: the AS variable of GROUP BY must not be in scope.
 		{"SELECT ?s { ?s ?p ?o } GROUP BY (STR(?o) AS ?s)", 1, 45, "GROUP BY (... AS ?s)"},
 		{"SELECT (<http://e/agg>(DISTINCT ?o) AS ?x) { ?s ?p ?o }", 1, 9, "custom aggregate functions are not supported"},
+		// §18.2.1's table: OPTIONAL, GRAPH, VALUES, a sub-SELECT's projection,
+		// SERVICE, a path and BIND put variables in scope, so neither BIND nor a
+		// SELECT expression may bind them again.
+		{"SELECT * { ?s <p> ?o OPTIONAL { ?s <q> ?x } BIND (1 AS ?x) }", 1, 56, "?x is already in scope in this group"},
+		{"SELECT * { GRAPH ?g { ?s ?p ?o } BIND (<g> AS ?g) }", 1, 47, "?g is already in scope in this group"},
+		{"SELECT * { VALUES ?v { 1 } BIND (2 AS ?v) }", 1, 39, "?v is already in scope in this group"},
+		{"SELECT * { { SELECT ?x { ?x ?p ?o } } BIND (1 AS ?x) }", 1, 50, "?x is already in scope in this group"},
+		{"SELECT * { SERVICE ?svc { ?s ?p ?o } BIND (1 AS ?svc) }", 1, 49, "?svc is already in scope in this group"},
+		{"SELECT * { ?s <p>+ ?o BIND (1 AS ?o) }", 1, 34, "?o is already in scope in this group"},
+		{"SELECT (1 AS ?x) { { SELECT ?x { ?x ?p ?o } } }", 1, 14, "?x is already in scope in the query pattern"},
+		{"SELECT (1 AS ?y) { ?s ?p ?o BIND (2 AS ?y) }", 1, 14, "?y is already in scope in the query pattern"},
+		{"SELECT (1 AS ?v) { VALUES ?v { 1 } }", 1, 14, "?v is already in scope in the query pattern"},
 	}
 	for _, tc := range tests {
 		q, err := sparql.Parse(tc.src)
@@ -142,6 +154,14 @@ func TestScopeErrors(t *testing.T) {
 		"SELECT * { { SELECT (1 AS ?X) {} } UNION { SELECT (2 AS ?X) {} } }",
 		"SELECT ?s (COUNT(*) AS ?c) { ?s ?p ?o FILTER(?o > 1) } GROUP BY ?s HAVING (COUNT(?o) > 1) ORDER BY ?c",
 		"SELECT (SUM(?o) AS ?t) (?t * 2 AS ?d) { ?s ?p ?o }",
+		// §18.2.1: a variable used only in FILTER, on the right of MINUS, inside
+		// EXISTS, or hidden by a sub-SELECT's projection is not in scope, so it may
+		// be bound.
+		"SELECT * { ?s ?p ?o FILTER (?x > 1) BIND (1 AS ?x) }",
+		"SELECT * { ?s ?p ?o MINUS { ?s ?q ?x } BIND (1 AS ?x) }",
+		"SELECT * { ?s ?p ?o FILTER EXISTS { ?s ?q ?x } BIND (1 AS ?x) }",
+		"SELECT * { { SELECT ?s { ?s ?p ?x } } BIND (1 AS ?x) }",
+		"SELECT (1 AS ?x) { { SELECT ?s { ?s ?p ?x } } }",
 	} {
 		translate(t, src)
 	}

@@ -1,13 +1,16 @@
 package algebra_test
 
 import (
-	"context"
+	"net/url"
 	"os"
 	"path/filepath"
 	"sort"
+	"strings"
 	"testing"
 
-	"veneer/conformance"
+	"veneer/catalog/rdf"
+	"veneer/rewrite/algebra"
+	"veneer/rewrite/sparql"
 )
 
 // w3cDir is where the W3C test suites are: ../../../shared/w3c from this
@@ -26,81 +29,158 @@ func w3cDir(t *testing.T) string {
 	return dir
 }
 
-// runSuite runs a suite of the conformance package and fails the test for
-// each test of the suite that failed; it logs the counts per group.
-func runSuite(t *testing.T, s conformance.Suite, dir string) *conformance.Report {
+// Vocabulary of the W3C test manifests (rdf-tests/ns).
+const (
+	mf = "http://www.w3.org/2001/sw/DataAccess/tests/test-manifest#"
+	qt = "http://www.w3.org/2001/sw/DataAccess/tests/test-query#"
+)
+
+// manifestTest is one entry of a manifest.
+type manifestTest struct {
+	id    string // the test's IRI
+	kind  string // local name of its rdf:type in mf:
+	query string // path of the query or update file
+}
+
+// readManifest reads the entries of a manifest.ttl, in the order mf:entries
+// lists them.
+func readManifest(t *testing.T, path string) []manifestTest {
 	t.Helper()
-	skips, err := conformance.SkipListFor(s.Name())
+	src, err := os.ReadFile(path)
 	if err != nil {
 		t.Fatal(err)
 	}
-	rep, err := conformance.Run(context.Background(), s, conformance.Options{Dir: dir, Skips: skips}, nil)
+	abs, err := filepath.Abs(path)
 	if err != nil {
 		t.Fatal(err)
 	}
-	counts := map[string]*conformance.Counts{}
-	var groups []string
-	for _, r := range rep.Results {
-		c := counts[r.Group]
-		if c == nil {
-			c = &conformance.Counts{}
-			counts[r.Group] = c
-			groups = append(groups, r.Group)
+	base := (&url.URL{Scheme: "file", Path: filepath.ToSlash(abs)}).String()
+	doc, err := rdf.ParseTurtle(path, src, base)
+	if err != nil {
+		t.Fatalf("reading manifest: %v", err)
+	}
+	objects := map[rdf.Term]map[rdf.IRI][]rdf.Term{}
+	for _, s := range doc.Statements {
+		p, ok := s.P.(rdf.IRI)
+		if !ok {
+			continue
 		}
-		switch r.Outcome {
-		case conformance.Passed:
-			c.Passed++
-		case conformance.Failed:
-			c.Failed++
-			t.Errorf("%s %s: %s", r.Group, r.ID, r.Reason)
-		case conformance.Skipped:
-			c.Skipped++
-			t.Logf("skip %s: %s", r.ID, r.Reason)
+		if objects[s.S] == nil {
+			objects[s.S] = map[rdf.IRI][]rdf.Term{}
+		}
+		objects[s.S][p] = append(objects[s.S][p], s.O)
+	}
+	one := func(s rdf.Term, p rdf.IRI) rdf.Term {
+		if objs := objects[s][p]; len(objs) > 0 {
+			return objs[0]
+		}
+		return nil
+	}
+	var entries []rdf.Term
+	for s, props := range objects {
+		for _, ty := range props[rdf.RDFType] {
+			if ty == rdf.IRI(mf+"Manifest") {
+				for list := one(s, mf+"entries"); list != nil && list != rdf.RDFNil; list = one(list, rdf.RDFRest) {
+					entries = append(entries, one(list, rdf.RDFFirst))
+				}
+			}
 		}
 	}
-	sort.Strings(groups)
-	for _, g := range groups {
-		c := counts[g]
-		t.Logf("%-28s %4d passed, %3d failed, %3d skipped", g, c.Passed, c.Failed, c.Skipped)
+	var tests []manifestTest
+	for _, e := range entries {
+		mt := manifestTest{id: e.String()}
+		if ty, ok := one(e, rdf.RDFType).(rdf.IRI); ok {
+			mt.kind = strings.TrimPrefix(string(ty), mf)
+		}
+		action := one(e, mf+"action")
+		if q := one(action, qt+"query"); q != nil {
+			action = q
+		}
+		if iri, ok := action.(rdf.IRI); ok {
+			if u, err := url.Parse(string(iri)); err == nil && u.Scheme == "file" {
+				mt.query = filepath.FromSlash(u.Path)
+			}
+		}
+		tests = append(tests, mt)
 	}
-	for _, w := range rep.Warnings {
-		t.Error(w)
-	}
-	if rep.Passed == 0 {
-		t.Error("no test passed")
-	}
-	t.Log(rep.Summary())
-	return rep
+	return tests
 }
 
-// TestW3CSyntax runs the suite of `go run ./conformance/cmd/w3c sparql-syntax`:
-// the syntax tests of rdf-tests/sparql (sparql11/syntax-query, syntax-fed,
-// sparql10/syntax-sparql1..5) as their manifests list them. Every positive
-// test must parse and translate, every negative one be rejected.
-func TestW3CSyntax(t *testing.T) {
-	runSuite(t, conformance.SPARQLSyntax(), w3cDir(t))
+// fileIRI is the IRI a query file is retrieved from, its base IRI.
+func fileIRI(path string) string {
+	return (&url.URL{Scheme: "file", Path: filepath.ToSlash(path)}).String()
 }
 
-// TestW3CQueries checks the query of every test in every manifest of the
-// SPARQL 1.1 and 1.0 suites (rdf-tests/sparql/sparql1[01]/*/manifest.ttl):
-// the syntax tests as above, the update syntax tests (sparql11/syntax-update-1:
-// a valid update is refused as read-only, an invalid one rejected), and the
-// query of each evaluation test, which must parse and translate.
-func TestW3CQueries(t *testing.T) {
-	dir := w3cDir(t)
-	root := filepath.Join(dir, "rdf-tests", "sparql")
+// check parses and translates the file of one test; it returns "" when the
+// outcome is what the test's type requires (algebra.W3CVerdict), else the
+// reason it is not.
+func check(mt manifestTest) string {
+	src, err := os.ReadFile(mt.query)
+	if err != nil {
+		return "cannot read the query: " + err.Error()
+	}
+	q, err := sparql.ParseBase(string(src), fileIRI(mt.query))
+	if err == nil {
+		_, err = algebra.Translate(q)
+	}
+	problem, known := algebra.W3CVerdict(mt.kind, err)
+	switch {
+	case !known:
+		return "unknown test type " + mt.kind
+	case problem != nil:
+		return problem.Error()
+	}
+	return ""
+}
+
+// w3cSkips are tests whose expected outcome this parser deliberately does not
+// give, each with the reason.
+var w3cSkips = map[string]string{}
+
+// TestW3C runs the syntax tests of the SPARQL 1.1 and 1.0 suites
+// (rdf-tests/sparql/sparql11/syntax-query, syntax-fed, syntax-update-1,
+// sparql10/syntax-sparql1..5) and parses and translates the query of every
+// evaluation test of both suites, as each manifest lists them. It logs pass and
+// fail counts per manifest.
+func TestW3C(t *testing.T) {
+	root := filepath.Join(w3cDir(t), "rdf-tests", "sparql")
 	manifests, err := filepath.Glob(filepath.Join(root, "sparql1[01]", "*", "manifest.ttl"))
 	if err != nil {
 		t.Fatal(err)
 	}
-	var dirs []string
+	sort.Strings(manifests)
+	total := map[string]int{}
+	kinds := map[string]int{}
 	for _, m := range manifests {
-		rel, err := filepath.Rel(root, filepath.Dir(m))
-		if err != nil {
-			t.Fatal(err)
+		suite, _ := filepath.Rel(root, filepath.Dir(m))
+		pass, fail, skip, other := 0, 0, 0, 0
+		for _, mt := range readManifest(t, m) {
+			if mt.query == "" || !strings.HasSuffix(mt.query, ".rq") && !strings.HasSuffix(mt.query, ".ru") {
+				other++ // protocol and service description tests have no query file
+				continue
+			}
+			if reason, ok := w3cSkips[mt.id]; ok {
+				t.Logf("skip %s: %s", mt.id, reason)
+				skip++
+				continue
+			}
+			kinds[mt.kind]++
+			if why := check(mt); why != "" {
+				t.Errorf("%s %s (%s): %s", suite, mt.id, mt.kind, why)
+				fail++
+				continue
+			}
+			pass++
 		}
-		dirs = append(dirs, filepath.ToSlash(rel))
+		if pass+fail+skip > 0 {
+			t.Logf("%-36s %4d passed, %3d failed, %3d skipped", suite, pass, fail, skip)
+		}
+		total["pass"] += pass
+		total["fail"] += fail
+		total["skip"] += skip
+		total["other"] += other
 	}
-	sort.Strings(dirs)
-	runSuite(t, conformance.SPARQLQueries(dirs...), dir)
+	t.Logf("tests by type: %v", kinds)
+	t.Logf("all manifests: %d passed, %d failed, %d skipped (%d entries without a query file)",
+		total["pass"], total["fail"], total["skip"], total["other"])
 }

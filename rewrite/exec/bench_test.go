@@ -82,7 +82,7 @@ func BenchmarkScanFilterSlice(b *testing.B) {
 		for c.Next() {
 			n++
 		}
-		if c.Err() != nil || n != 10000*3/7 {
+		if c.Err() != nil || n != 4284 { // the rows with i mod 7 in 4..6
 			b.Fatalf("%d solutions, error %v", n, c.Err())
 		}
 	}

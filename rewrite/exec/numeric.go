@@ -20,15 +20,27 @@ const (
 	kindDouble
 )
 
-// number is the value of a numeric literal. Integers that fit in an int64 live
-// in small (with exact nil); larger integers and all decimals live in exact;
-// floats and doubles live in f (a float's value is always a float32 value).
+// number is the value of a numeric literal. Integers and decimals with at most
+// 18 significant digits live in small as small / 10^scale, with exact nil (the
+// common case, read and compared without big numbers); other integers and
+// decimals live in exact; floats and doubles live in f (a float's value is
+// always a float32 value).
 type number struct {
 	kind  numKind
 	small int64
+	scale int8
 	exact *big.Rat
 	f     float64
 }
+
+// pow10 holds the powers of ten an int64 can hold.
+var pow10 = func() (p [19]int64) {
+	p[0] = 1
+	for i := 1; i < len(p); i++ {
+		p[i] = p[i-1] * 10
+	}
+	return p
+}()
 
 // integerTypes maps each integer datatype to its value range (nil bound: none),
 // xsd:integer and the types XML Schema derives from it (SPARQL 1.1 Query §17.1).
@@ -50,10 +62,12 @@ var integerTypes = map[rdf.IRI][2]*big.Int{
 
 // isNumericType reports whether dt is one of the numeric datatypes of §17.1.
 func isNumericType(dt rdf.IRI) bool {
-	if _, ok := integerTypes[dt]; ok {
+	switch dt {
+	case rdf.XSDInteger, rdf.XSDDecimal, rdf.XSDDouble, rdf.XSDFloat:
 		return true
 	}
-	return dt == rdf.XSDDecimal || dt == rdf.XSDFloat || dt == rdf.XSDDouble
+	_, ok := integerTypes[dt]
+	return ok
 }
 
 // numberOf reads a numeric literal; false when the term is not a literal of a
@@ -68,6 +82,9 @@ func numberOf(t rdf.Term) (number, bool) {
 	case rdf.XSDDecimal:
 		if !decimalLexical(s) {
 			return number{}, false
+		}
+		if n, ok := smallDecimal(s); ok {
+			return n, true
 		}
 		r, ok := new(big.Rat).SetString(s)
 		return number{kind: kindDecimal, exact: r}, ok
@@ -126,6 +143,33 @@ func decimalLexical(s string) bool {
 	return len(whole)+len(frac) > 0 && allDigits(whole) && allDigits(frac)
 }
 
+// smallDecimal reads a valid decimal lexical form with at most 18 digits.
+func smallDecimal(s string) (number, bool) {
+	neg := false
+	switch {
+	case strings.HasPrefix(s, "-"):
+		neg, s = true, s[1:]
+	case strings.HasPrefix(s, "+"):
+		s = s[1:]
+	}
+	whole, frac, _ := strings.Cut(s, ".")
+	frac = strings.TrimRight(frac, "0")
+	whole = strings.TrimLeft(whole, "0")
+	if len(whole)+len(frac) > 18 {
+		return number{}, false
+	}
+	var m int64
+	for _, part := range [2]string{whole, frac} {
+		for i := 0; i < len(part); i++ {
+			m = m*10 + int64(part[i]-'0')
+		}
+	}
+	if neg {
+		m = -m
+	}
+	return number{kind: kindDecimal, small: m, scale: int8(len(frac))}, true
+}
+
 // parseFloatLexical reads the xsd:double / xsd:float lexical space: a decimal
 // mantissa with an optional exponent, or INF, +INF, -INF, NaN. Go's ParseFloat
 // alone would also take hex, underscores and "Infinity".
@@ -138,7 +182,10 @@ func parseFloatLexical(s string) (float64, bool) {
 	case "NaN":
 		return math.NaN(), true
 	}
-	mant, exp, hasExp := strings.Cut(strings.ReplaceAll(s, "E", "e"), "e")
+	mant, exp, hasExp := s, "", false
+	if i := strings.IndexAny(s, "eE"); i >= 0 {
+		mant, exp, hasExp = s[:i], s[i+1:], true
+	}
 	if !decimalLexical(mant) || hasExp && !integerLexical(exp) {
 		return 0, false
 	}
@@ -168,19 +215,21 @@ func (n number) rat() *big.Rat {
 	if n.exact != nil {
 		return n.exact
 	}
-	return new(big.Rat).SetInt64(n.small)
+	return big.NewRat(n.small, pow10[n.scale])
 }
 
-// float returns the value as a float64 (exact for floats and doubles).
+// float returns the value as a float64 (exact for floats and doubles, the
+// nearest double otherwise).
 func (n number) float() float64 {
 	switch {
 	case n.kind >= kindFloat:
 		return n.f
-	case n.exact != nil:
-		f, _ := n.exact.Float64()
-		return f
+	case n.exact == nil && n.small < 1<<53 && n.small > -1<<53:
+		// Both operands are exact doubles, so one division rounds correctly.
+		return float64(n.small) / float64(pow10[n.scale])
 	}
-	return float64(n.small)
+	f, _ := n.rat().Float64()
+	return f
 }
 
 // to converts n to kind k, which is not earlier than n's kind.
@@ -189,7 +238,8 @@ func (n number) to(k numKind) number {
 	case n.kind == k:
 		return n
 	case k == kindDecimal:
-		return number{kind: kindDecimal, exact: n.rat()}
+		n.kind = kindDecimal // an integer's representation is a decimal's
+		return n
 	case k == kindFloat:
 		return number{kind: kindFloat, f: float64(float32(n.float()))}
 	}
@@ -325,7 +375,8 @@ func negate(n number) number {
 	case n.kind >= kindFloat:
 		return number{kind: n.kind, f: -n.f}
 	case n.exact == nil && n.small != math.MinInt64:
-		return number{kind: n.kind, small: -n.small}
+		n.small = -n.small
+		return n
 	}
 	return exactNumber(n.kind, new(big.Rat).Neg(n.rat()))
 }
@@ -346,16 +397,34 @@ func compareNumbers(a, b number) (cmp int, ok bool) {
 		}
 		return 0, true
 	}
-	if a.exact == nil && b.exact == nil {
+	if x, y, ok := alignSmall(a, b); ok {
 		switch {
-		case a.small < b.small:
+		case x < y:
 			return -1, true
-		case a.small > b.small:
+		case x > y:
 			return 1, true
 		}
 		return 0, true
 	}
 	return a.rat().Cmp(b.rat()), true
+}
+
+// alignSmall brings two small integers or decimals to one scale; false when
+// either is not small or the scaling would overflow.
+func alignSmall(a, b number) (int64, int64, bool) {
+	if a.exact != nil || b.exact != nil {
+		return 0, 0, false
+	}
+	if a.scale < b.scale {
+		y, x, ok := alignSmall(b, a)
+		return x, y, ok
+	}
+	d := pow10[a.scale-b.scale]
+	y := b.small * d
+	if b.small != 0 && y/d != b.small {
+		return 0, 0, false
+	}
+	return a.small, y, true
 }
 
 // isZero reports whether n is zero or NaN: the numbers whose EBV is false.

@@ -96,7 +96,7 @@ func (l *lexer) next() token {
 		l.state = l.state(l)
 	}
 	t := l.pending[0]
-	l.pending = l.pending[1:]
+	l.pending = l.pending[:copy(l.pending, l.pending[1:])] // keeps the buffer's capacity
 	if t.typ == tokEOF || t.typ == tokError {
 		l.state = nil
 		l.pending = append(l.pending[:0], t)

@@ -7,7 +7,7 @@ import (
 
 // Limits bound the queries the parser accepts, so that one request cannot make
 // the parser, the translation to algebra or the planner run out of stack, time
-// or memory. A zero field takes its default.
+// or memory. A field that is zero or negative takes its default.
 type Limits struct {
 	// MaxLength is the longest query text, in bytes.
 	MaxLength int
@@ -36,15 +36,16 @@ const (
 // for it with errors.Is (the server answers such a query as too large).
 var ErrLimit = errors.New("the query exceeds a limit of this endpoint")
 
-// orDefaults returns the limits with each zero field set to its default.
+// orDefaults returns the limits with each field that is not positive set to
+// its default.
 func (l Limits) orDefaults() Limits {
-	if l.MaxLength == 0 {
+	if l.MaxLength <= 0 {
 		l.MaxLength = DefaultMaxLength
 	}
-	if l.MaxDepth == 0 {
+	if l.MaxDepth <= 0 {
 		l.MaxDepth = DefaultMaxDepth
 	}
-	if l.MaxTriples == 0 {
+	if l.MaxTriples <= 0 {
 		l.MaxTriples = DefaultMaxTriples
 	}
 	return l

@@ -1,6 +1,8 @@
 // Package sparql turns SPARQL 1.1 query text into a syntax tree with positions
 // (SPARQL 1.1 Query §19), and prints such trees back as query text. A SPARQL
-// Update request is recognised and refused with an error wrapping ErrUpdate.
+// Update request is recognised and refused with an error wrapping ErrUpdate;
+// a query longer, deeper or with more triple patterns than its Limits allow
+// gets an error wrapping ErrLimit.
 package sparql
 
 import (
@@ -28,7 +30,7 @@ type Options struct {
 	// Base is the IRI relative IRIs are resolved against until a BASE
 	// declaration replaces it; empty for none.
 	Base string
-	// Limits bound the query; zero fields take the defaults.
+	// Limits bound the query; fields that are not positive take the defaults.
 	Limits Limits
 }
 
@@ -57,7 +59,7 @@ func ParseWith(text string, opt Options) (q *Query, err error) {
 	return p.parseQueryUnit(), nil
 }
 
-// parseError carries a syntax error up the parser's stack; ParseBase recovers it.
+// parseError carries a syntax error up the parser's stack; ParseWith recovers it.
 type parseError struct{ err *SyntaxError }
 
 // bnodeUse records in which basic graph pattern a blank node label was used
@@ -102,7 +104,9 @@ func (p *parser) next() token {
 	if t.typ == tokError {
 		p.fail(t.pos, "%s", t.val)
 	}
-	p.ahead = p.ahead[1:]
+	// Shift rather than reslice, so that the buffer keeps its capacity and
+	// reading a token allocates nothing.
+	p.ahead = p.ahead[:copy(p.ahead, p.ahead[1:])]
 	return t
 }
 

@@ -132,10 +132,12 @@ func TestRoundTripW3C(t *testing.T) {
 
 // FuzzParse asserts that no input makes the parser panic or hang, and that
 // whatever parses survives the print and parse round trip. The seeds are the
-// queries under testdata.
+// queries under testdata and the golden queries of the algebra package; go
+// test also runs the inputs the fuzzer found, kept in testdata/fuzz/FuzzParse.
 func FuzzParse(f *testing.F) {
 	seeds, _ := filepath.Glob("testdata/*.rq")
-	for _, s := range seeds {
+	golden, _ := filepath.Glob("../algebra/testdata/*.rq")
+	for _, s := range append(seeds, golden...) {
 		src, err := os.ReadFile(s)
 		if err == nil {
 			f.Add(string(src))

@@ -30,6 +30,17 @@ func (a *Answer) Size() int {
 	return len(a.Solutions)
 }
 
+// form names the answer's shape.
+func (a *Answer) form() string {
+	switch {
+	case a.Boolean != nil:
+		return "a boolean"
+	case a.Triples != nil:
+		return "triples"
+	}
+	return "solutions"
+}
+
 // jsonTerm is a term of the SPARQL 1.1 Query Results JSON Format (§3.2.2).
 type jsonTerm struct {
 	Type     string `json:"type"`

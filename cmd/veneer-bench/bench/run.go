@@ -35,6 +35,9 @@ type Config struct {
 	// short, leaving at least minRuns.
 	Iterations, Warmup int
 	QueryBudget        time.Duration
+	// TranslateBudget bounds the time spent timing one query's translation
+	// (at least ten runs are timed).
+	TranslateBudget time.Duration
 	// Clients and ThroughputTime set the concurrency measurement: Clients
 	// goroutines ask for ThroughputTime per side and query.
 	Clients        int
@@ -46,12 +49,8 @@ type Config struct {
 // minRuns is the fewest timed runs per side a median is taken over.
 const minRuns = 3
 
-// translateRuns bounds the translations timed per query; translateBudget the
-// time spent on them.
-const (
-	translateRuns   = 500
-	translateBudget = 300 * time.Millisecond
-)
+// translateRuns bounds the translations timed per query.
+const translateRuns = 500
 
 // QueryResult is the measurement of one query.
 type QueryResult struct {
@@ -188,7 +187,7 @@ func sides(cfg Config, q mix.Query) (veneer, twin side) {
 func measure(ctx context.Context, cfg Config, c *client, q mix.Query) QueryResult {
 	res := QueryResult{Name: q.Name, Kind: q.Kind}
 	if cfg.Translate != nil {
-		d, err := translation(cfg.Translate, q.SPARQL)
+		d, err := translation(cfg.Translate, q.SPARQL, cfg.TranslateBudget)
 		if err != nil {
 			res.Error = "plan: " + oneLine(err.Error())
 		}
@@ -206,6 +205,11 @@ func measure(ctx context.Context, cfg Config, c *client, q mix.Query) QueryResul
 		if res.Error == "" {
 			res.Error = "veneer: " + oneLine(err.Error())
 		}
+		res.SQL = c.alone(ctx, twin)
+		return res
+	}
+	if got.form() != want.form() {
+		res.Error = "veneer: answered with " + got.form() + ", not " + want.form()
 		res.SQL = c.alone(ctx, twin)
 		return res
 	}
@@ -252,15 +256,15 @@ func measure(ctx context.Context, cfg Config, c *client, q mix.Query) QueryResul
 }
 
 // translation times parse + plan of a query: the median of up to translateRuns
-// runs within translateBudget, after a few untimed ones.
-func translation(translate func(string) error, text string) (time.Duration, error) {
+// runs within budget, after a few untimed ones.
+func translation(translate func(string) error, text string, budget time.Duration) (time.Duration, error) {
 	for range 5 {
 		if err := translate(text); err != nil {
 			return 0, err
 		}
 	}
 	var ds []time.Duration
-	deadline := time.Now().Add(translateBudget)
+	deadline := time.Now().Add(budget)
 	for len(ds) < translateRuns && (len(ds) < 10 || time.Now().Before(deadline)) {
 		start := time.Now()
 		if err := translate(text); err != nil {

@@ -325,8 +325,10 @@ func construct(p Params, turbine rdf.IRI) Query {
 		SPARQL: fmt.Sprintf(`CONSTRUCT { %[1]s ?p ?o . ?x wf:onTurbine %[1]s }
 WHERE { { %[1]s ?p ?o } UNION { ?x wf:onTurbine %[1]s } }`, turbine),
 		Twin: Twin{
+			// PostgreSQL types a UNION's columns branch by branch, and two NULLs
+			// make text: the cast keeps the last column an integer.
 			SQL: `SELECT t.serial, t.model, t.rated_power_kw, t.hub_height_m, t.commissioned_on, t.status,
-  t.firmware_digest, s.code, NULL, NULL
+  t.firmware_digest, s.code, NULL, CAST(NULL AS INTEGER)
 FROM turbine t JOIN site s ON s.site_id = t.site_id WHERE t.serial = ?
 UNION ALL
 SELECT NULL, NULL, NULL, NULL, NULL, NULL, NULL, NULL, w.order_number, NULL

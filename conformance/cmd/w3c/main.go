@@ -29,7 +29,7 @@ import (
 var suites = map[string]conformance.Suite{}
 
 func init() {
-	for _, s := range []conformance.Suite{conformance.RDB2RDF()} {
+	for _, s := range []conformance.Suite{conformance.RDB2RDF(), conformance.SPARQLSyntax(), conformance.SPARQLEval()} {
 		suites[s.Name()] = s
 	}
 }

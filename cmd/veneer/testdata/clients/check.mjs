@@ -2,15 +2,18 @@
 // SPARQL clients from the npm registry and prints what each client parsed,
 // as JSON, for TestRealClients to compare with veneer's own answer.
 //
-//   node check.mjs ENDPOINT CLIENT FORM QUERY
+//   node check.mjs ENDPOINT < JOBS
 //
-// CLIENT is fetch-sparql-endpoint or sparql-http-client; FORM is select, ask
-// or construct. A SELECT answer prints as a list of {variable: term}, ASK as
-// a boolean, CONSTRUCT as a list of [subject, predicate, object].
+// JOBS is a JSON list of {client, form, query}: client is
+// fetch-sparql-endpoint or sparql-http-client, form select, ask or construct.
+// The output is a JSON list with, for each job, {result} or {error}: a SELECT
+// answer as a list of {variable: term}, ASK as a boolean, CONSTRUCT as a list
+// of [subject, predicate, object]. One process runs every job, since starting
+// node takes longer than the checks.
 import { SparqlEndpointFetcher } from 'fetch-sparql-endpoint'
 import ParsingClient from 'sparql-http-client/ParsingClient.js'
 
-const [endpoint, client, form, query] = process.argv.slice(2)
+const [endpoint] = process.argv.slice(2)
 
 // term writes an RDF/JS term as [kind, value, tag]: ["iri", IRI],
 // ["bnode"] (labels are local to a document) or ["literal", lexical form,
@@ -41,7 +44,7 @@ function collect (stream, map) {
 
 const triple = (q) => [term(q.subject), term(q.predicate), term(q.object)]
 
-async function viaFetcher () {
+async function viaFetcher (form, query) {
   const f = new SparqlEndpointFetcher()
   switch (form) {
     case 'select': return collect(await f.fetchBindings(endpoint, query), row)
@@ -50,7 +53,7 @@ async function viaFetcher () {
   }
 }
 
-async function viaHTTPClient () {
+async function viaHTTPClient (form, query) {
   const c = new ParsingClient({ endpointUrl: endpoint })
   switch (form) {
     case 'select': return (await c.query.select(query)).map(row)
@@ -59,10 +62,15 @@ async function viaHTTPClient () {
   }
 }
 
-try {
-  const result = client === 'fetch-sparql-endpoint' ? await viaFetcher() : await viaHTTPClient()
-  process.stdout.write(JSON.stringify(result) + '\n')
-} catch (e) {
-  process.stderr.write(String(e && e.stack || e) + '\n')
-  process.exit(1)
+let input = ''
+for await (const chunk of process.stdin) input += chunk
+const out = []
+for (const { client, form, query } of JSON.parse(input)) {
+  try {
+    const result = client === 'fetch-sparql-endpoint' ? await viaFetcher(form, query) : await viaHTTPClient(form, query)
+    out.push({ result })
+  } catch (e) {
+    out.push({ error: String(e && e.message || e).split('\n').slice(0, 3).join(' ') })
+  }
 }
+process.stdout.write(JSON.stringify(out) + '\n')
