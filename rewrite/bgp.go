@@ -11,27 +11,49 @@ import (
 )
 
 // candidate is a producer with the graph map it is read through (nil in the
-// default graph).
+// service's default graph), and the graph IRIs that map must produce (nil: any).
 type candidate struct {
 	p     producer
 	graph *catalog.TermMap
+	only  []rdf.IRI
 }
 
 // candidates lists what can produce triples in the graph context: the default
 // graph (graph nil), or the named graphs matched by graph (a Var or a Const).
-func (pl *Planner) candidates(graph algebra.Item) []candidate {
+// A dataset (FROM, FROM NAMED) chooses the graphs: the default graph is the
+// merge of the FROM graphs, and the named graphs are the FROM NAMED ones; a
+// query naming only one kind has none of the other (SPARQL 1.1 Query §13.2).
+func (q *query) candidates(graph algebra.Item) []candidate {
+	ds := q.dataset
+	given := len(ds.Default) > 0 || len(ds.Named) > 0
 	var out []candidate
-	for _, p := range pl.producers {
-		if graph == nil {
+	for _, p := range q.pl.producers {
+		switch {
+		case graph == nil && !given:
 			if p.inDefaultGraph() {
 				out = append(out, candidate{p: p})
 			}
-			continue
+		case graph == nil:
+			out = append(out, named(p, ds.Default, true)...)
+		case !given:
+			out = append(out, named(p, nil, false)...)
+		default:
+			out = append(out, named(p, ds.Named, true)...)
 		}
-		for _, g := range p.namedGraphs() {
-			g := g
-			out = append(out, candidate{p: p, graph: &g})
-		}
+	}
+	return out
+}
+
+// named lists the producer's named-graph candidates, restricted, when restrict
+// is set, to the graphs only lists.
+func named(p producer, only []rdf.IRI, restrict bool) []candidate {
+	if restrict && len(only) == 0 {
+		return nil
+	}
+	var out []candidate
+	for _, g := range p.namedGraphs() {
+		g := g
+		out = append(out, candidate{p: p, graph: &g, only: only})
 	}
 	return out
 }
@@ -51,7 +73,7 @@ func (q *query) bgp(patterns []algebra.Triple, graph algebra.Item) (*rel, error)
 	if v, ok := graph.(algebra.Var); ok && len(patterns) > 0 {
 		r.addVar(v)
 	}
-	cands := q.pl.candidates(graph)
+	cands := q.candidates(graph)
 	var walk func(i int, b *branch) error
 	walk = func(i int, b *branch) error {
 		if i == len(patterns) {
@@ -133,10 +155,30 @@ func (q *query) addPattern(b *branch, t algebra.Triple, c candidate, graph algeb
 		positions[2].occ = objOcc
 	}
 	if c.graph != nil {
-		positions = append(positions, struct {
-			it  algebra.Item
-			occ occurrence
-		}{graph, q.base(*c.graph, child, pr.tm.Table)})
+		g := q.base(*c.graph, child, pr.tm.Table)
+		if c.only != nil {
+			// The graph must be one the dataset names.
+			var options []sql.Expr
+			for _, iri := range c.only {
+				if conds, ok := q.constConds(g, iri); ok {
+					options = append(options, sql.And(conds...))
+				}
+			}
+			if len(options) == 0 {
+				return false
+			}
+			if cond := or(options...); cond != nil {
+				b.where = append(b.where, cond)
+			}
+		}
+		if graph != nil {
+			positions = append(positions, struct {
+				it  algebra.Item
+				occ occurrence
+			}{graph, g})
+		} else if a := g.active(); a != nil {
+			b.where = append(b.where, a)
+		}
 	}
 	for _, pos := range positions {
 		if a := pos.occ.active(); a != nil {

@@ -5,15 +5,38 @@ import (
 	"veneer/rewrite/sparql"
 )
 
+// Request is a query with what the SPARQL Protocol adds to its text.
+type Request struct {
+	Text string
+	// Base is the IRI relative IRIs of the query resolve against until the query
+	// sets its own BASE (the request's URL); empty for none.
+	Base string
+	// Dataset, when set, is the RDF dataset of default-graph-uri and
+	// named-graph-uri; it replaces the query's FROM and FROM NAMED (SPARQL 1.1
+	// Protocol §2.1.4).
+	Dataset *algebra.Dataset
+}
+
 // Compile parses a SPARQL query, translates it to algebra and plans it.
 func (pl *Planner) Compile(text string) (*Plan, error) {
-	ast, err := sparql.Parse(text)
+	p, _, err := pl.CompileRequest(Request{Text: text})
+	return p, err
+}
+
+// CompileRequest parses, translates and plans a request, and returns the
+// algebra too (for explain).
+func (pl *Planner) CompileRequest(r Request) (*Plan, *algebra.Query, error) {
+	ast, err := sparql.ParseBase(r.Text, r.Base)
 	if err != nil {
-		return nil, err
+		return nil, nil, err
 	}
 	q, err := algebra.Translate(ast)
 	if err != nil {
-		return nil, err
+		return nil, nil, err
 	}
-	return pl.Plan(q)
+	if r.Dataset != nil {
+		q.Dataset = *r.Dataset
+	}
+	p, err := pl.Plan(q)
+	return p, q, err
 }

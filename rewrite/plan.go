@@ -30,8 +30,14 @@ type Plan struct {
 	// Describe lists the resources of DESCRIBE: IRIs, or variables bound by Root.
 	Describe []algebra.Item
 	// Planner plans the patterns that evaluation meets on the way: EXISTS with a
-	// solution substituted in, and the description of each DESCRIBE resource.
-	Planner *Planner
+	// solution substituted in, and the description of each DESCRIBE resource,
+	// over the query's dataset.
+	Planner Subplanner
+}
+
+// Subplanner plans the patterns a running query meets.
+type Subplanner interface {
+	PlanPattern(n algebra.Node) (Op, error)
 }
 
 // Slot says how one variable's term is built from a row: by the first of its
@@ -117,17 +123,30 @@ func (pl *Planner) Plan(q *algebra.Query) (*Plan, error) {
 		// ASK needs one solution at most: the SQL stops at the first row.
 		pattern = algebra.Slice{Input: pattern, Limit: 1}
 	}
-	root, err := pl.PlanPattern(pattern)
+	sub := inDataset{pl: pl, dataset: q.Dataset}
+	root, err := sub.PlanPattern(pattern)
 	if err != nil {
 		return nil, err
 	}
-	return &Plan{Form: q.Form, Vars: q.Vars, Root: root, Template: q.Template, Describe: q.Describe, Planner: pl}, nil
+	return &Plan{Form: q.Form, Vars: q.Vars, Root: root, Template: q.Template, Describe: q.Describe, Planner: sub}, nil
 }
 
-// PlanPattern plans one algebra expression: the largest subtrees SQL can express
-// become Scans, and the operators above them run in-process.
+// PlanPattern plans one algebra expression over the service's own dataset: the
+// largest subtrees SQL can express become Scans, and the operators above them
+// run in-process.
 func (pl *Planner) PlanPattern(n algebra.Node) (Op, error) {
-	q := &query{pl: pl}
+	return inDataset{pl: pl}.PlanPattern(n)
+}
+
+// inDataset plans patterns over one RDF dataset.
+type inDataset struct {
+	pl      *Planner
+	dataset algebra.Dataset
+}
+
+// PlanPattern implements Subplanner.
+func (d inDataset) PlanPattern(n algebra.Node) (Op, error) {
+	q := &query{pl: d.pl, dataset: d.dataset}
 	return q.op(n, nil)
 }
 

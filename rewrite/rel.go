@@ -115,6 +115,9 @@ type query struct {
 	// graph is the graph context of the pattern being planned, for the patterns
 	// that expressions contain (EXISTS).
 	graph algebra.Item
+	// dataset is the query's FROM / FROM NAMED; empty means the service's own
+	// default graph and named graphs.
+	dataset algebra.Dataset
 }
 
 func (q *query) alias(prefix string) string {

@@ -5,8 +5,10 @@ import (
 	"database/sql"
 	"fmt"
 	"io"
+	"regexp"
 	"slices"
 	"strings"
+	"unicode/utf8"
 
 	"veneer/catalog"
 	"veneer/catalog/rdf"
@@ -84,6 +86,14 @@ type table struct {
 	columns  []string
 	families []family
 	rows     []row
+}
+
+// family is the type family of column j for the value v.
+func (t *table) family(j int, v any) family {
+	if t.families[j] == famUnknown {
+		return valueFamily(v)
+	}
+	return t.families[j]
 }
 
 // row holds one row's values, in the order of table.columns; nil is SQL NULL.
@@ -247,7 +257,7 @@ func joinKey(t *table, r row, cols []string) (string, bool, error) {
 		if r[j] == nil {
 			return "", false, nil
 		}
-		if parts[i], err = lexical(r[j], t.families[j]); err != nil {
+		if parts[i], err = lexical(r[j], t.family(j, r[j])); err != nil {
 			return "", false, fmt.Errorf("column %s: %w", c, err)
 		}
 	}
@@ -268,11 +278,12 @@ func (m *materialiser) term(tm catalog.TermMap, t *table, r row) (rdf.Term, bool
 		if r[j] == nil {
 			return nil, false, nil
 		}
-		lex, err := lexical(r[j], t.families[j])
+		f := t.family(j, r[j])
+		lex, err := lexical(r[j], f)
 		if err != nil {
 			return nil, false, fmt.Errorf("term map at %s, column %s: %w", tm.Pos, tm.Column, err)
 		}
-		return m.made(tm, lex, t.families[j]), true, nil
+		return m.made(tm, lex, f), true, nil
 	case catalog.TemplateMap:
 		var b strings.Builder
 		for _, p := range tm.Template.Parts {
@@ -287,7 +298,7 @@ func (m *materialiser) term(tm catalog.TermMap, t *table, r row) (rdf.Term, bool
 			if r[j] == nil {
 				return nil, false, nil
 			}
-			lex, err := lexical(r[j], t.families[j])
+			lex, err := lexical(r[j], t.family(j, r[j]))
 			if err != nil {
 				return nil, false, fmt.Errorf("template at %s, column %s: %w", tm.Pos, p.Column, err)
 			}
@@ -306,6 +317,10 @@ func (m *materialiser) term(tm catalog.TermMap, t *table, r row) (rdf.Term, bool
 func (m *materialiser) made(tm catalog.TermMap, lex string, f family) rdf.Term {
 	switch tm.TermType {
 	case rdf.KindIRI:
+		// A value that is not an absolute IRI is joined to the base (§11).
+		if !absoluteIRI.MatchString(lex) {
+			lex = tm.Base + lex
+		}
 		return rdf.IRI(lex)
 	case rdf.KindBlank:
 		return rdf.BlankNode(blankLabel(lex))
@@ -319,6 +334,9 @@ func (m *materialiser) made(tm catalog.TermMap, lex string, f family) rdf.Term {
 	}
 	return rdf.NewTyped(lex, f.datatype())
 }
+
+// absoluteIRI matches the scheme an absolute IRI starts with (RFC 3987 §2.2).
+var absoluteIRI = regexp.MustCompile(`^[A-Za-z][A-Za-z0-9+.-]*:`)
 
 // blankLabel turns a blank node's value into an N-Triples label: letters and
 // digits stay, every other byte becomes "x" and its hex code, so distinct values
@@ -389,9 +407,11 @@ func (m *materialiser) table(ctx context.Context, tm *catalog.TriplesMap) (*tabl
 		return nil, fmt.Errorf("reading the logical table's column types: %w", err)
 	}
 	t := &table{}
-	for _, ct := range types {
+	pad := make([]int, len(types))
+	for i, ct := range types {
 		t.columns = append(t.columns, ct.Name())
 		t.families = append(t.families, familyOf(ct.DatabaseTypeName()))
+		pad[i] = charLength(ct.DatabaseTypeName())
 	}
 	if err := m.mysqlBooleans(ctx, tm, t); err != nil {
 		return nil, err
@@ -406,8 +426,16 @@ func (m *materialiser) table(ctx context.Context, tm *catalog.TriplesMap) (*tabl
 			return nil, fmt.Errorf("reading a row of the logical table: %w", err)
 		}
 		for i, v := range r {
-			if b, ok := v.([]byte); ok {
-				r[i] = slices.Clone(b) // the driver may reuse the buffer
+			switch x := v.(type) {
+			case []byte:
+				r[i] = slices.Clone(x) // the driver may reuse the buffer
+				if pad[i] > 0 {
+					r[i] = padded(string(x), pad[i])
+				}
+			case string:
+				if pad[i] > 0 {
+					r[i] = padded(x, pad[i])
+				}
 			}
 		}
 		t.rows = append(t.rows, r)
@@ -417,6 +445,14 @@ func (m *materialiser) table(ctx context.Context, tm *catalog.TriplesMap) (*tabl
 	}
 	m.tables[tm] = t
 	return t, nil
+}
+
+// padded pads s with spaces to n characters.
+func padded(s string, n int) string {
+	if k := utf8.RuneCountInString(s); k < n {
+		return s + strings.Repeat(" ", n-k)
+	}
+	return s
 }
 
 // mysqlBooleans marks the BOOLEAN columns of a MySQL or MariaDB table. Those

@@ -24,6 +24,9 @@ type family int
 
 const (
 	famString family = iota
+	// famUnknown is a result column without a type name (an expression in
+	// SQLite): each value's own type decides (see valueFamily).
+	famUnknown
 	famInteger
 	famDecimal
 	famDouble
@@ -36,26 +39,69 @@ const (
 // familyOf classifies a result column by the type name its driver reports
 // (database/sql's ColumnType.DatabaseTypeName: "INT4", "DECIMAL(9,6)",
 // "DOUBLE PRECISION", "TINYINT", …). Names the table does not list are strings.
+// BIT is a boolean, as SQL Server has it and the W3C R2RML test R2RMLTC0016d
+// expects.
 func familyOf(typeName string) family {
-	t := strings.ToUpper(strings.TrimSpace(typeName))
-	if i := strings.IndexByte(t, '('); i >= 0 {
-		t = strings.TrimSpace(t[:i])
-	}
-	t = strings.TrimPrefix(t, "UNSIGNED ")
+	t, _ := splitTypeName(typeName)
 	switch t {
+	case "":
+		return famUnknown
 	case "INTEGER", "INT", "INT2", "INT4", "INT8", "SMALLINT", "BIGINT", "TINYINT", "MEDIUMINT":
 		return famInteger
 	case "DECIMAL", "NUMERIC":
 		return famDecimal
 	case "DOUBLE", "DOUBLE PRECISION", "FLOAT", "FLOAT4", "FLOAT8", "REAL":
 		return famDouble
-	case "BOOLEAN", "BOOL":
+	case "BOOLEAN", "BOOL", "BIT":
 		return famBoolean
 	case "BLOB", "BYTEA", "BINARY", "VARBINARY":
 		return famBinary
 	case "DATE":
 		return famDate
 	case "TIMESTAMP", "DATETIME":
+		return famTimestamp
+	}
+	return famString
+}
+
+// splitTypeName splits "CHAR(15)" into "CHAR" and its first parameter, 15 (0
+// when there is none).
+func splitTypeName(typeName string) (string, int) {
+	t := strings.ToUpper(strings.TrimSpace(typeName))
+	n := 0
+	if i := strings.IndexByte(t, '('); i >= 0 {
+		args := strings.TrimSuffix(t[i+1:], ")")
+		first, _, _ := strings.Cut(args, ",")
+		n, _ = strconv.Atoi(strings.TrimSpace(first))
+		t = strings.TrimSpace(t[:i])
+	}
+	return strings.TrimPrefix(t, "UNSIGNED "), n
+}
+
+// charLength is the length a CHAR(n) column pads its values to, or 0. SQL
+// pads fixed-length strings with spaces (SQL:2008 §4.2.2); SQLite keeps values
+// as written, so the materialiser pads them as the W3C R2RML test R2RMLTC0018a
+// expects. Servers that pad report no length, or pad themselves.
+func charLength(typeName string) int {
+	t, n := splitTypeName(typeName)
+	if t == "CHAR" || t == "CHARACTER" {
+		return n
+	}
+	return 0
+}
+
+// valueFamily is the family of a value from a column without a type name.
+func valueFamily(v any) family {
+	switch v.(type) {
+	case int64:
+		return famInteger
+	case float64:
+		return famDouble
+	case bool:
+		return famBoolean
+	case []byte:
+		return famBinary
+	case time.Time:
 		return famTimestamp
 	}
 	return famString
@@ -86,6 +132,9 @@ func (f family) datatype() rdf.IRI {
 // canonical form of the XSD value (R2RML §10.2). v is whatever the driver
 // returned: int64, float64, bool, string, []byte or time.Time.
 func lexical(v any, f family) (string, error) {
+	if f == famUnknown {
+		f = valueFamily(v)
+	}
 	text := func() string {
 		switch x := v.(type) {
 		case string:
