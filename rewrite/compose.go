@@ -342,6 +342,9 @@ func (q *query) leftJoin(l, r *rel, expr algebra.Expr) *rel {
 	if !ok {
 		return nil
 	}
+	if len(d.branches) == 0 {
+		return l // nothing can extend the left side's solutions
+	}
 	db := d.branches[0]
 	dt := db.from[0]
 	out := &rel{}

@@ -17,8 +17,8 @@ import (
 // in-process: their SQL forms round or order differently. nil when SQL cannot.
 func (q *query) group(r *rel, n algebra.Group) *rel {
 	r, ok := q.deduped(r)
-	if !ok {
-		return nil
+	if !ok || len(r.branches) == 0 {
+		return nil // an empty input still makes one group without keys: in-process
 	}
 	if len(r.branches) != 1 {
 		if r, ok = q.derived(r, modifiers{limit: -1}); !ok {

@@ -42,6 +42,9 @@ func (q *query) existsCond(b *branch, r *rel, needShared bool) (sql.Expr, bool) 
 	if !ok {
 		return nil, false
 	}
+	if len(d.branches) == 0 {
+		return sql.Binary{Op: "=", L: sql.Int(0), R: sql.Int(1)}, true // no row of r exists
+	}
 	db := d.branches[0]
 	var conds, bothBound []sql.Expr
 	for v, rb := range db.vars {

@@ -180,6 +180,9 @@ func (q *query) closure(p algebra.Path, s, o algebra.Var, graph algebra.Item, st
 	if step == nil || err != nil {
 		return nil, err
 	}
+	if len(step.branches) == 0 {
+		return &rel{vars: []algebra.Var{s, o}}, nil // no step at all: no path
+	}
 	stepClosed, ok := q.closeRel(step, modifiers{vars: []algebra.Var{s, o}, distinct: true, limit: -1})
 	if !ok || len(stepClosed.slots) != 2 || len(stepClosed.checks) > 0 {
 		return nil, nil

@@ -220,6 +220,9 @@ func (q *query) nullOf(col source.Column) sql.Expr {
 // result columns by shape, shared across branches; the branches are combined with
 // UNION (or UNION ALL when rows cannot repeat), and the modifiers apply on top.
 func (q *query) closeRel(r *rel, mod modifiers) (*closed, bool) {
+	if len(r.branches) == 0 {
+		return nil, false // an empty relation has no statement; callers plan none
+	}
 	vars := r.vars
 	if mod.vars != nil {
 		vars = nil
@@ -358,6 +361,9 @@ func indexOfVar(vs []algebra.Var, v algebra.Var) int {
 // derived closes a relation and reads it back as a single-branch relation over a
 // derived table, so that it can be composed as one FROM item.
 func (q *query) derived(r *rel, mod modifiers) (*rel, bool) {
+	if len(r.branches) == 0 {
+		return &rel{vars: r.vars}, true // nothing to read: still nothing
+	}
 	if r.hasChecks() {
 		// Rows failing a check must not leave the derived table, and checks run
 		// in-process: such a relation cannot be nested.
