@@ -9,6 +9,7 @@ import (
 	"net/http/httptest"
 	"net/url"
 	"os"
+	"path"
 	"path/filepath"
 	"runtime/debug"
 	"strings"
@@ -388,8 +389,7 @@ type evalGroup struct {
 
 // name names the group after the folder of its first test and its documents.
 func (g *evalGroup) name(first *evalCase) string {
-	folder, _, _ := strings.Cut(first.id[len("sparqlNN/"):], "/")
-	folder = first.id[:len("sparqlNN/")] + folder
+	folder := path.Dir(first.id)
 	if len(g.loads) == 0 {
 		return folder + " (empty dataset)"
 	}

@@ -299,6 +299,13 @@ _:r w:diameter "90"^^xsd:integer ; w:bladeOf _:r .
 w:t8 a w:Turbine ; w:label "T8" , "T8" .
 `
 
+// rdfLoad is an RDF document (Turtle) to store in one graph ("" for the
+// default graph).
+type rdfLoad struct {
+	src   []byte
+	graph rdf.IRI
+}
+
 // The generated mapping serves the stored tables as the dataset they were made
 // from: reading every quad back through veneer (MappedDataset) gives the same
 // dataset up to blank node labels (RDF 1.1 Concepts §3.6, §4), each quad once.
@@ -306,17 +313,12 @@ w:t8 a w:Turbine ; w:label "T8" , "T8" .
 // some of the suite's data files with many kinds of literals.
 func TestTripleTablesRoundTrip(t *testing.T) {
 	root := filepath.Join(w3cDir(t), "rdf-tests", "sparql")
-	srv := testServer(t, source.SQLite)
 	g := rdf.IRI("http://example.com/graph/inspections")
-	type load struct {
-		src   []byte
-		graph rdf.IRI
-	}
 	type dataset struct {
 		name  string
-		loads []load
+		loads []rdfLoad
 	}
-	sets := []dataset{{name: "wind farm, default and named graph", loads: []load{{[]byte(windFarm), ""}, {[]byte(windFarm), g}}}}
+	sets := []dataset{{name: "wind farm, default and named graph", loads: []rdfLoad{{[]byte(windFarm), ""}, {[]byte(windFarm), g}}}}
 	// rdf-tests sparql10: expr-equals/data-eq.ttl (typed literals of several
 	// datatypes), i18n/kanji.ttl (non-ASCII IRIs and literals),
 	// bnode-coreference/data.ttl (blank nodes that refer to each other).
@@ -325,65 +327,100 @@ func TestTripleTablesRoundTrip(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		sets = append(sets, dataset{name: f, loads: []load{{src, ""}}})
+		sets = append(sets, dataset{name: f, loads: []rdfLoad{{src, ""}}})
 	}
-	for _, set := range sets {
-		t.Run(set.name, func(t *testing.T) {
-			ctx, cancel := context.WithTimeout(context.Background(), time.Minute)
-			defer cancel()
-			sc, err := srv.Create(ctx)
-			if err != nil {
-				t.Fatal(err)
-			}
-			defer sc.Close()
-			tables := newTripleTables()
-			var want []rdf.Quad
-			for i, l := range set.loads {
-				doc, err := rdf.ParseTurtle(set.name, l.src, "http://example.com/base/")
-				if err != nil {
-					t.Fatal(err)
-				}
-				for _, tr := range doc.Triples() {
-					if err := tables.add(l.graph, tr, "d"+strconv.Itoa(i)+"."); err != nil {
-						t.Fatal(err)
-					}
-					q := rdf.Quad{S: tr.S, P: tr.P, O: tr.O}
-					if l.graph != "" {
-						q.G = l.graph
-					}
-					// Each document's blank nodes are its own.
-					for _, p := range []*rdf.Term{&q.S, &q.O} {
-						if bn, ok := (*p).(rdf.BlankNode); ok {
-							*p = rdf.BlankNode("d" + strconv.Itoa(i) + string(bn))
-						}
-					}
-					want = append(want, q)
-				}
-			}
-			if err := tables.store(ctx, sc); err != nil {
-				t.Fatal(err)
-			}
-			cat, err := r2rml.Load("mapping.ttl", []byte(tables.mapping()))
-			if err != nil {
-				t.Fatalf("%v\n%s", err, tables.mapping())
-			}
-			src, err := sc.Source(ctx)
-			if err != nil {
-				t.Fatal(err)
-			}
-			got, err := MappedDataset(ctx, src, cat)
-			if err != nil {
-				t.Fatal(err)
-			}
-			if err := CompareDatasets(want, got); err != nil {
-				t.Error(err)
-				var d interface{ Details() []string }
-				if errors.As(err, &d) {
-					for _, line := range d.Details() {
-						t.Log(line)
-					}
-				}
+	for _, d := range []source.Dialect{source.SQLite, source.Postgres, source.MySQL} {
+		t.Run(d.String(), func(t *testing.T) {
+			srv := testServer(t, d)
+			for _, set := range sets {
+				t.Run(set.name, func(t *testing.T) { roundTrip(t, srv, set.loads) })
 			}
 		})
+	}
+}
+
+// roundTrip stores the documents in triple tables on a new database of srv
+// and reads the dataset back through the generated mapping.
+func roundTrip(t *testing.T, srv *Server, loads []rdfLoad) {
+	ctx, cancel := context.WithTimeout(context.Background(), time.Minute)
+	defer cancel()
+	sc, err := srv.Create(ctx)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer sc.Close()
+	tables := newTripleTables()
+	var want []rdf.Quad
+	for i, l := range loads {
+		doc, err := rdf.ParseTurtle("data.ttl", l.src, "http://example.com/base/")
+		if err != nil {
+			t.Fatal(err)
+		}
+		scope := "d" + strconv.Itoa(i) + "."
+		for _, tr := range doc.Triples() {
+			if err := tables.add(l.graph, tr, scope); err != nil {
+				t.Fatal(err)
+			}
+			q := rdf.Quad{S: tr.S, P: tr.P, O: tr.O}
+			if l.graph != "" {
+				q.G = l.graph
+			}
+			// Each document's blank nodes are its own.
+			for _, p := range []*rdf.Term{&q.S, &q.O} {
+				if bn, ok := (*p).(rdf.BlankNode); ok {
+					*p = rdf.BlankNode(scope + string(bn))
+				}
+			}
+			want = append(want, q)
+		}
+	}
+	if err := tables.store(ctx, sc); err != nil {
+		t.Fatal(err)
+	}
+	cat, err := r2rml.Load("mapping.ttl", []byte(tables.mapping()))
+	if err != nil {
+		t.Fatalf("%v\n%s", err, tables.mapping())
+	}
+	src, err := sc.Source(ctx)
+	if err != nil {
+		t.Fatal(err)
+	}
+	got, err := MappedDataset(ctx, src, cat)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := CompareDatasets(want, got); err != nil {
+		t.Error(err)
+		var d interface{ Details() []string }
+		if errors.As(err, &d) {
+			for _, line := range d.Details() {
+				t.Log(line)
+			}
+		}
+	}
+}
+
+// guarded turns a test that overruns its deadline, whether or not it stops
+// when its context ends, and a panic into failures (common practice; no
+// external source).
+func TestGuarded(t *testing.T) {
+	ctx := context.Background()
+	const short = 50 * time.Millisecond
+	if err := guarded(ctx, short, func(context.Context) error { return nil }); err != nil {
+		t.Errorf("a quick test: %v", err)
+	}
+	err := guarded(ctx, short, func(ctx context.Context) error { <-ctx.Done(); return ctx.Err() })
+	if err == nil || !strings.Contains(err.Error(), "no answer within") || strings.Contains(err.Error(), "did not stop") {
+		t.Errorf("a test that stops at its deadline: %v", err)
+	}
+	release := make(chan struct{})
+	defer close(release)
+	err = guarded(ctx, short, func(context.Context) error { <-release; return nil })
+	if err == nil || !strings.Contains(err.Error(), "did not stop") {
+		t.Errorf("a test that ignores its deadline: %v", err)
+	}
+	var p *panicError
+	if err := guarded(ctx, short, func(context.Context) error { panic("rotor") }); !errors.As(err, &p) || len(p.Details()) == 0 {
+		t.Errorf("a panic: %v", err)
 	}
 }

@@ -15,6 +15,8 @@ type Request struct {
 	// named-graph-uri; it replaces the query's FROM and FROM NAMED (SPARQL 1.1
 	// Protocol §2.1.4).
 	Dataset *algebra.Dataset
+	// Limits bound the query text (zero fields: the parser's defaults).
+	Limits sparql.Limits
 }
 
 // Compile parses a SPARQL query, translates it to algebra and plans it.
@@ -26,7 +28,7 @@ func (pl *Planner) Compile(text string) (*Plan, error) {
 // CompileRequest parses, translates and plans a request, and returns the
 // algebra too (for explain).
 func (pl *Planner) CompileRequest(r Request) (*Plan, *algebra.Query, error) {
-	ast, err := sparql.ParseBase(r.Text, r.Base)
+	ast, err := sparql.ParseWith(r.Text, sparql.Options{Base: r.Base, Limits: r.Limits})
 	if err != nil {
 		return nil, nil, err
 	}

@@ -44,7 +44,7 @@ type property struct {
 	// exclusive that only members of the class use the predicate, so that a
 	// pattern without "a C" still matches members only.
 	total, functional, unique, exclusive bool
-	kind                      kind
+	kind                                 kind
 	// target is the class of the objects, when they are subjects of one class.
 	target *class
 	// inverse lists, for each object, the members that have it.

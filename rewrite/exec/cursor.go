@@ -3,6 +3,21 @@
 // plan (rewrite.Op) with SPARQL's semantics (§18.5), including the whole
 // expression language of §17, and hands out the result of the query form
 // through a cursor.
+//
+// Solutions are pulled through the operator tree one at a time. Scan, Filter,
+// Extend, Project, Union and Slice stream: they hold no solutions, and a Slice
+// that has its LIMIT closes its input, which stops the SQL. Join, LeftJoin and
+// Minus read their right input into memory (a hash table) and stream the left
+// one; Order, Group and Distinct hold what they must (ORDER BY with LIMIT only
+// the first Offset+Limit solutions). Options.MaxBuffered bounds every one of
+// them, and a query that needs more fails with a TooLarge error rather than
+// exhausting memory.
+//
+// A scan sends its SQL when its first solution is asked for, and a join reads
+// its right side to the end before its left side starts, so one query keeps at
+// most one statement open at a time, plus one for each EXISTS or DESCRIBE
+// lookup running under it: a pool of a few connections per concurrent query
+// is enough.
 package exec
 
 import (
@@ -283,15 +298,15 @@ func (c *constructSource) instantiate(sol []rdf.Term) {
 	}
 }
 
-// describeSource yields, for each resource DESCRIBE names (an IRI, or the
-// terms a variable takes in the root's solutions), the triples that have it
-// as subject, found by planning the pattern { resource ?p ?o }. Each resource
-// is described once.
+// describeSource yields, for each resource DESCRIBE names (an IRI given in
+// the query, or a term a variable takes in the root's solutions), the triples
+// that have it as subject, found by planning the pattern { resource ?p ?o }.
+// Each resource is described once; the IRIs come first, so they are described
+// even when the root has no solution.
 type describeSource struct {
 	r         *run
 	in        iterator
-	items     []algebra.Item
-	slots     []int
+	slots     []int // of the variables among the items
 	described map[string]bool
 	queue     []rdf.Term
 	current   rdf.Term
@@ -303,14 +318,15 @@ func newDescribeSource(r *run, l *layout, in iterator, items []algebra.Item) (*d
 	if r.planner == nil {
 		return nil, badQuery("DESCRIBE cannot be evaluated: the plan has no planner for the descriptions")
 	}
-	d := &describeSource{r: r, in: in, items: items, described: map[string]bool{},
+	d := &describeSource{r: r, in: in, described: map[string]bool{},
 		set: tripleSet{limit: r.limit, seen: map[string]struct{}{}}}
 	for _, it := range items {
-		slot := -1
-		if v, ok := it.(algebra.Var); ok {
-			slot = l.slot(v)
+		switch it := it.(type) {
+		case algebra.Var:
+			d.slots = append(d.slots, l.slot(it))
+		case algebra.Const:
+			d.enqueue(it.Term)
 		}
-		d.slots = append(d.slots, slot)
 	}
 	return d, nil
 }
@@ -351,7 +367,9 @@ func (d *describeSource) next() (rdf.Triple, bool, error) {
 				continue
 			}
 			d.r.residual++
-			d.enqueue(sol)
+			for _, slot := range d.slots {
+				d.enqueue(sol[slot])
+			}
 			continue
 		}
 		d.current, d.queue = d.queue[0], d.queue[1:]
@@ -372,28 +390,21 @@ func (d *describeSource) close() {
 	}
 }
 
-// enqueue adds the resources one solution names that are not described yet.
-func (d *describeSource) enqueue(sol []rdf.Term) {
-	for i, it := range d.items {
-		var t rdf.Term
-		if d.slots[i] >= 0 {
-			t = sol[d.slots[i]]
-		} else if c, ok := it.(algebra.Const); ok {
-			t = c.Term
-		}
-		if t == nil || t.Kind() == rdf.KindLiteral {
-			continue // a literal is never a subject
-		}
-		var key strings.Builder
-		writeTermKey(&key, t)
-		if d.described[key.String()] {
-			continue
-		}
-		if len(d.described) < d.r.limit {
-			d.described[key.String()] = true
-		}
-		d.queue = append(d.queue, t)
+// enqueue adds a resource to describe, unless it is described already or is
+// a literal, which is never a subject.
+func (d *describeSource) enqueue(t rdf.Term) {
+	if t == nil || t.Kind() == rdf.KindLiteral {
+		return
 	}
+	var key strings.Builder
+	writeTermKey(&key, t)
+	if d.described[key.String()] {
+		return
+	}
+	if len(d.described) < d.r.limit {
+		d.described[key.String()] = true
+	}
+	d.queue = append(d.queue, t)
 }
 
 func (d *describeSource) startLookup(resource rdf.Term) error {

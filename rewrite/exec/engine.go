@@ -20,6 +20,9 @@ type Engine struct {
 func (e *Engine) Query(ctx context.Context, text string) (*Cursor, error) {
 	p, err := e.Planner.Compile(text)
 	if err != nil {
+		if pe := planError(err); pe != nil {
+			return nil, pe
+		}
 		return nil, &Error{Kind: BadQuery, Err: err}
 	}
 	c, err := e.Options.Run(ctx, e.Source, p)

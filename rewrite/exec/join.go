@@ -24,6 +24,13 @@ var joinNames = [...]string{joinInner: "a join", joinLeft: "OPTIONAL", joinMinus
 // right side to its end before the left one starts means that at most one of
 // the two has an open SQL statement at any time.
 func (b *builder) join(left, right rewrite.Op, kind int, expr algebra.Expr) (node, error) {
+	_, leftInline := left.(*rewrite.Values)
+	_, rightInline := right.(*rewrite.Values)
+	if kind == joinInner && leftInline && !rightInline {
+		// Inline data is the smaller side; Join does not depend on the order
+		// of its inputs.
+		left, right = right, left
+	}
 	l, err := b.build(left)
 	if err != nil {
 		return node{}, err

@@ -144,6 +144,16 @@ func (r *run) tooLarge(what string) error {
 // fail gives an error that ends the iteration its kind: planner errors are the
 // query's fault, failures of the source depend on the context.
 func (r *run) fail(err error) error {
+	if e := planError(err); e != nil {
+		return e
+	}
+	return classify(r.ctx, err)
+}
+
+// planError gives a planner's error its kind: a query the planner does not
+// support is a bad query, one beyond its limits too large; nil for errors that
+// are neither.
+func planError(err error) error {
 	var unsupported *rewrite.Unsupported
 	var complex *rewrite.TooComplex
 	switch {
@@ -152,5 +162,5 @@ func (r *run) fail(err error) error {
 	case errors.As(err, &complex):
 		return &Error{Kind: TooLarge, Err: err}
 	}
-	return classify(r.ctx, err)
+	return nil
 }
