@@ -12,6 +12,7 @@ import (
 	"os"
 	"path/filepath"
 	"runtime/pprof"
+	"slices"
 	"strconv"
 	"strings"
 	"time"
@@ -44,6 +45,7 @@ type benchOptions struct {
 	out        string
 	explain    bool
 	cpuProfile string
+	only       string
 }
 
 func runBench(ctx context.Context, args []string, stdout, stderr io.Writer) error {
@@ -61,6 +63,7 @@ func runBench(ctx context.Context, args []string, stdout, stderr io.Writer) erro
 	fs.StringVar(&o.out, "out", "bench-results", "directory for the Markdown and JSON reports")
 	fs.BoolVar(&o.explain, "explain", false, "also write each query's plan (rewrite.Explain) next to the reports")
 	fs.StringVar(&o.cpuProfile, "cpuprofile", "", "write a CPU profile of the measurements to this file")
+	fs.StringVar(&o.only, "queries", "", "run only these queries of the mix (comma-separated names, e.g. 01-point,02-star)")
 	if err := fs.Parse(args); err != nil {
 		return err
 	}
@@ -120,7 +123,10 @@ func benchmark(ctx context.Context, t gen.Target, o benchOptions, progress io.Wr
 	if err != nil {
 		return nil, fmt.Errorf("choosing the resources the queries ask about: %w", err)
 	}
-	queries := mix.Queries(params, src.Dialect())
+	queries, err := selectQueries(mix.Queries(params, src.Dialect()), o.only)
+	if err != nil {
+		return nil, err
+	}
 	if o.explain {
 		if err := writeExplain(planner, queries, o.out, t.Dialect, o.sf); err != nil {
 			return nil, err
@@ -159,6 +165,23 @@ func benchmark(ctx context.Context, t gen.Target, o benchOptions, progress io.Wr
 		Progress: progress,
 	}
 	return bench.Run(ctx, cfg, queries)
+}
+
+// selectQueries keeps the queries named in the comma-separated list only, or
+// all of them when it is empty.
+func selectQueries(all []mix.Query, only string) ([]mix.Query, error) {
+	if only == "" {
+		return all, nil
+	}
+	var out []mix.Query
+	for name := range strings.SplitSeq(only, ",") {
+		i := slices.IndexFunc(all, func(q mix.Query) bool { return q.Name == strings.TrimSpace(name) })
+		if i < 0 {
+			return nil, fmt.Errorf("--queries: the mix has no query %q", name)
+		}
+		out = append(out, all[i])
+	}
+	return out, nil
 }
 
 // veneer wires veneer as `veneer serve` does: the demo mapping, probed against

@@ -4,6 +4,8 @@
 //	veneer demo    [--listen ADDR] [--config FILE] [options]
 //	veneer serve   --db DSN [--mapping FILE]... [--listen ADDR] [--config FILE] [options]
 //	veneer explain --db DSN [--mapping FILE]... QUERY|@FILE
+//	veneer check   --db DSN --mapping FILE [--mapping FILE]... [--config FILE]
+//	veneer draft   --db DSN [--base IRI] [--config FILE]
 //
 // Every option of serve can also come from a YAML file (--config) and from an
 // environment variable; "veneer serve -h" lists them.
@@ -47,6 +49,8 @@ const usage = `usage:
   veneer demo    [--listen ADDR] [--config FILE] [options]
   veneer serve   --db DSN [--mapping FILE]... [--listen ADDR] [--config FILE] [options]
   veneer explain --db DSN [--mapping FILE]... QUERY|@FILE
+  veneer check   --db DSN --mapping FILE [--mapping FILE]... [--config FILE]
+  veneer draft   --db DSN [--base IRI] [--config FILE]
 run "veneer serve -h" for the options
 `
 
@@ -62,6 +66,10 @@ func run(ctx context.Context, args []string, stdout, stderr io.Writer) error {
 		return runServe(ctx, args[1:], stdout, stderr)
 	case "explain":
 		return runExplain(ctx, args[1:], stdout, stderr)
+	case "check":
+		return runCheck(ctx, args[1:], stdout, stderr)
+	case "draft":
+		return runDraft(ctx, args[1:], stdout, stderr)
 	case "help", "-h", "--help":
 		fmt.Fprint(stdout, usage)
 		return nil

@@ -146,6 +146,14 @@ func serve(ctx context.Context, c *config, src source.Source, load func(context.
 	}
 	engine, cat, err := engineOf(ctx)
 	if err != nil {
+		// Every problem of the mapping, each with its position, before the one
+		// line main prints.
+		var problems catalog.ErrorList
+		if errors.As(err, &problems) && len(problems) > 1 {
+			for _, p := range problems {
+				fmt.Fprintln(stderr, p)
+			}
+		}
 		return err
 	}
 	tokens, err := c.tokens(os.Getenv)

@@ -51,13 +51,44 @@ func TestDifferential(t *testing.T) {
 	count := envInt(t, "VENEER_DIFF_COUNT", defaultCount)
 	refDir := installedReference(t)
 	var report reportFile
+	graphs := map[string]*Graph{}
 	sourcetest.ForEach(t, func(t *testing.T, db *sourcetest.DB) {
-		differential(t, db, refDir, seed, count, &report)
+		graphs[db.Dialect.String()] = differential(t, db, refDir, seed, count, &report)
 	})
 	report.write(t)
+	// The demo data are the same on every database, and so must the graph be:
+	// a difference is a mistake of the materialiser (or of a driver).
+	var first string
+	for _, d := range sourcetest.Dialects {
+		g := graphs[d.String()]
+		switch {
+		case g == nil:
+		case first == "":
+			first = d.String()
+		default:
+			if diff := graphDiff(graphs[first], g); diff != "" {
+				t.Errorf("the materialised graphs of %s and %s differ: %s", first, d, diff)
+			}
+		}
+	}
 }
 
-func differential(t *testing.T, db *sourcetest.DB, refDir string, seed uint64, count int, report *reportFile) {
+// graphDiff returns the first difference between two graphs, or "".
+func graphDiff(a, b *Graph) string {
+	for i := range min(len(a.Triples), len(b.Triples)) {
+		if x, y := ntriple(a.Triples[i]), ntriple(b.Triples[i]); x != y {
+			return fmt.Sprintf("triple %d is %s in one and %s in the other", i+1, strings.TrimSpace(x), strings.TrimSpace(y))
+		}
+	}
+	if len(a.Triples) != len(b.Triples) {
+		return fmt.Sprintf("%d triples and %d", len(a.Triples), len(b.Triples))
+	}
+	return ""
+}
+
+// differential runs the generated queries on one database and returns the
+// materialised graph.
+func differential(t *testing.T, db *sourcetest.DB, refDir string, seed uint64, count int, report *reportFile) *Graph {
 	ctx := context.Background()
 	dialect := db.Dialect.String()
 	err := demo.Build(ctx, func(ctx context.Context, q string, args ...any) error {
@@ -95,13 +126,17 @@ func differential(t *testing.T, db *sourcetest.DB, refDir string, seed uint64, c
 	endpoint := startVeneer(t, db)
 
 	qs := Generate(g, seed, count)
-	passed := 0
+	passed, empty := 0, 0
 	failedBy := map[string]int{}
 	start := time.Now()
 	for _, q := range qs {
 		name := fmt.Sprintf("q%04d-%s", q.ID, strings.ReplaceAll(q.Family, "/", "-"))
 		ok := t.Run(name, func(t *testing.T) {
-			if err := check(q, ref, endpoint); err != nil {
+			isEmpty, err := check(q, ref, endpoint)
+			if isEmpty {
+				empty++
+			}
+			if err != nil {
 				report.add(dialect, q, err)
 				t.Errorf("%s query (seed %d, %s comparison):\n%s\n%v", dialect, seed, q.Mode, q.Text, err)
 			}
@@ -117,40 +152,45 @@ func differential(t *testing.T, db *sourcetest.DB, refDir string, seed uint64, c
 		fams = append(fams, fmt.Sprintf("%s %d", f, n))
 	}
 	slices.Sort(fams)
-	t.Logf("%s: seed %d, %d triples, %d queries in %s: %d passed, %d failed (by family: %s)",
+	t.Logf("%s: seed %d, %d triples, %d queries in %s: %d passed, %d failed (by family: %s); "+
+		"the reference's answer was empty or false for %d",
 		dialect, seed, len(g.Triples), len(qs), time.Since(start).Round(time.Second), passed, len(qs)-passed,
-		strings.Join(fams, ", "))
+		strings.Join(fams, ", "), empty)
+	return g
 }
 
-// check answers q on both sides and compares.
-func check(q Query, ref *Reference, endpoint string) error {
+// check answers q on both sides and compares. It reports whether the
+// reference's answer was empty (no solutions or triples, or false), which
+// makes the comparison a weaker check.
+func check(q Query, ref *Reference, endpoint string) (bool, error) {
 	wantText, err := ref.Answer(q.Text, q.Graph)
 	if err != nil {
-		return fmt.Errorf("the reference engine failed (the generator should not make such a query): %w", err)
+		return false, fmt.Errorf("the reference engine failed (the generator should not make such a query): %w", err)
 	}
 	want, err := parseAnswer(wantText, q.Graph)
 	if err != nil {
-		return fmt.Errorf("the reference engine's answer: %w", err)
+		return false, fmt.Errorf("the reference engine's answer: %w", err)
 	}
+	empty := len(want.Solutions) == 0 && len(want.Triples) == 0 && (want.Boolean == nil || !*want.Boolean)
 	var all *Answer
 	if q.Mode == Limited {
 		allText, err := ref.Answer(q.Unlimited, false)
 		if err != nil {
-			return fmt.Errorf("the reference engine failed on the query without its slice: %w", err)
+			return empty, fmt.Errorf("the reference engine failed on the query without its slice: %w", err)
 		}
 		if all, err = parseAnswer(allText, false); err != nil {
-			return fmt.Errorf("the reference engine's answer to the query without its slice: %w", err)
+			return empty, fmt.Errorf("the reference engine's answer to the query without its slice: %w", err)
 		}
 	}
 	gotText, err := askVeneer(endpoint, q)
 	if err != nil {
-		return fmt.Errorf("veneer failed: %w", err)
+		return empty, fmt.Errorf("veneer failed: %w", err)
 	}
 	got, err := parseAnswer(gotText, q.Graph)
 	if err != nil {
-		return fmt.Errorf("veneer's answer: %w", err)
+		return empty, fmt.Errorf("veneer's answer: %w", err)
 	}
-	return Compare(q, want, got, all)
+	return empty, Compare(q, want, got, all)
 }
 
 func parseAnswer(b []byte, graph bool) (*Answer, error) {

@@ -186,6 +186,14 @@ func TestComparisons(t *testing.T) {
 		{`1 >= 1`, T, "§17.3"},
 		{`1 <= 0.5`, F, "§17.3"},
 		{`?u = 1`, E, "§17.2: an unbound argument is an error"},
+		{`1.10 = 1.1`, T, "XML Schema: decimals compare by value"},
+		{`"+1.50"^^xsd:decimal = 1.5`, T, "XML Schema Part 2 §3.2.3.1 decimal lexical space"},
+		{`12345678901234567890.5 > 12345678901234567890`, T, "decimals beyond 18 digits compare exactly"},
+		{`0.000000000000000000001 > 0`, T, "a decimal of 21 fractional digits"},
+		{`-0.5 < 0`, T, "§17.3"},
+		{`"2006-08-23Z"^^xsd:date = "2006-08-23"^^xsd:date`, E, "XML Schema Part 2 §3.2.7.4: a zoned and an unzoned value within 14 hours are incomparable (DAWG open-world date-1)"},
+		{`"2006-08-23Z"^^xsd:date > "2006-08-22"^^xsd:date`, T, "XML Schema Part 2 §3.2.7.4 (DAWG open-world date-3)"},
+		{`"2006-08-23"^^xsd:date != "2001-01-01Z"^^xsd:date`, T, "XML Schema Part 2 §3.2.7.4 (DAWG open-world date-2)"},
 	})
 }
 
@@ -381,6 +389,12 @@ func TestRegex(t *testing.T) {
 		{`REGEX("٣", "^\\d$")`, T, "F&O §7.6.1: \\d is the Unicode class Nd"},
 		{`REGEX("\f", "\\s")`, F, "XML Schema Part 2 §F.1.1: \\s is space, tab, CR and LF only"},
 		{`REGEX("é", "^\\w$")`, T, "XML Schema Part 2 §F.1.1: \\w is every character but punctuation, separators and others"},
+		{`REGEX("٣", "^[\\d]$")`, T, "XML Schema Part 2 §F.1.1: \\d inside a class"},
+		{`REGEX("a b", "^a[\\s]b$")`, T, "\\s inside a class"},
+		{`REGEX("\f", "^[^\\s]$")`, T, "a negated class with \\s: form feed is not XML whitespace"},
+		{`REGEX("a", "^[\\S]$")`, T, "\\S inside a class"},
+		{`REGEX("A", "^\\p{Lu}$")`, T, "F&O §7.6.1 category escapes"},
+		{`REGEX("A", "\\p{IsBasicLatin}")`, E, "Unicode blocks are not in RE2"},
 		{`REGEX("abcabc", "(abc)\\1")`, E, "back-references are not in RE2: an error, not a wrong answer"},
 		{`REGEX("b", "[a-z-[aeiou]]")`, E, "character class subtraction is not in RE2"},
 		{`REGEX("a", "a", "z")`, E, "F&O §7.6.6: an unknown flag is an error (FORX0001)"},

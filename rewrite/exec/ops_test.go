@@ -524,3 +524,33 @@ func TestScanOnSQLite(t *testing.T) {
 		t.Errorf("decoded rows:\n got %q\nwant %q", got, want)
 	}
 }
+
+func TestScanBuilders(t *testing.T) {
+	// A slot's term comes from its first builder whose columns are not NULL
+	// (the branches of a SQL UNION fill different columns); a constant map
+	// applies when its marker column is not NULL.
+	str := []source.TypeKind{source.TypeString}
+	col := func(i int) rewrite.Builder {
+		return rewrite.Builder{Map: catalog.TermMap{Kind: catalog.Column, Column: "c", TermType: rdf.KindLiteral}, Cols: []int{i}, Kinds: str}
+	}
+	constant := rewrite.Builder{Map: catalog.TermMap{Kind: catalog.Constant, Constant: rdf.IRI("http://wind.example/Turbine")}, Cols: []int{2}}
+	blank := rewrite.Builder{Map: catalog.TermMap{Kind: catalog.TemplateMap, TermType: rdf.KindBlank,
+		Template: catalog.Template{Parts: []catalog.TemplatePart{{Text: "site "}, {Column: "c"}}}}, Cols: []int{0}, Kinds: str}
+	scan := &rewrite.Scan{Stmt: &sql.Select{}, SQL: "rows", Slots: []rewrite.Slot{
+		{Var: "v", Builders: []rewrite.Builder{col(0), col(1)}},
+		{Var: "k", Builders: []rewrite.Builder{constant}},
+		{Var: "b", Builders: []rewrite.Builder{blank}},
+	}}
+	src := &fakeSource{rows: [][]any{{nil, "x", nil}, {"y", nil, int64(1)}, {nil, nil, nil}}}
+	got := runSelect(t, src, nil, scan, "v", "k", "b")
+	want := []string{
+		`?v="x" ?k=- ?b=-`,
+		// R2RML §7.4 blank node template; the label keeps letters and digits
+		// and escapes the rest.
+		`?v="y" ?k=<http://wind.example/Turbine> ?b=_:bsite_20y`,
+		`?v=- ?k=- ?b=-`,
+	}
+	if !slices.Equal(got, want) {
+		t.Errorf("got %q, want %q", got, want)
+	}
+}
