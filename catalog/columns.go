@@ -124,8 +124,42 @@ func (c *Columns) probe(ctx context.Context, src source.Source, t LogicalTable, 
 		// R2RML §5.4: the result of an R2RML view must not have duplicate column names.
 		return fmt.Errorf("the result of the R2RML view has more than one column named %s: name each column once (with AS)", name)
 	}
+	if t.Query != "" && src.Dialect() == source.SQLite && untyped(cols) {
+		// SQLite types values, not expressions: a view's computed column has no
+		// declared type, so its first row's value tells the type instead.
+		if typed, err := firstRowColumns(ctx, src, from); err == nil && len(typed) == len(cols) {
+			for i := range cols {
+				if cols[i].DatabaseType == "" {
+					cols[i].Kind = typed[i].Kind
+				}
+			}
+		}
+	}
 	c.tables[t.Key()] = cols
 	return nil
+}
+
+func untyped(cols []source.Column) bool {
+	for _, c := range cols {
+		if c.DatabaseType == "" {
+			return true
+		}
+	}
+	return false
+}
+
+// firstRowColumns reads one row of a FROM item and returns the column types as
+// the source derives them from that row's values.
+func firstRowColumns(ctx context.Context, src source.Source, from string) ([]source.Column, error) {
+	rows, err := src.Query(ctx, "SELECT * FROM "+from+" LIMIT 1")
+	if err != nil {
+		return nil, err
+	}
+	defer rows.Close()
+	if !rows.Next() {
+		return nil, rows.Err()
+	}
+	return rows.Columns(), nil
 }
 
 // duplicateColumn finds a name that two result columns of a view share.
@@ -336,6 +370,7 @@ var fitting = map[source.TypeKind][]rdf.IRI{
 	source.TypeInteger:     append([]rdf.IRI{rdf.XSDInteger, rdf.XSDDecimal, rdf.XSDDouble, rdf.XSDFloat}, integerTypes...),
 	source.TypeDecimal:     {rdf.XSDDecimal, rdf.XSDDouble, rdf.XSDFloat},
 	source.TypeFloat:       {rdf.XSDDouble, rdf.XSDFloat},
+	source.TypeReal:        {rdf.XSDDouble, rdf.XSDFloat},
 	source.TypeBoolean:     {rdf.XSDBoolean},
 	source.TypeBinary:      {rdf.XSDHexBin},
 	source.TypeDate:        {rdf.XSDDate},

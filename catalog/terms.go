@@ -199,7 +199,7 @@ func NaturalDatatype(kind source.TypeKind) rdf.IRI {
 		return rdf.XSDInteger
 	case source.TypeDecimal:
 		return rdf.XSDDecimal
-	case source.TypeFloat:
+	case source.TypeFloat, source.TypeReal:
 		return rdf.XSDDouble
 	case source.TypeBoolean:
 		return rdf.XSDBoolean
@@ -238,15 +238,22 @@ func Lexical(v any, kind source.TypeKind) string {
 			return canonicalDecimal(strconv.FormatFloat(f, 'f', -1, 64))
 		}
 		return canonicalDecimal(plain(v))
-	case source.TypeFloat:
+	case source.TypeFloat, source.TypeReal:
+		bits := 64
+		if kind == source.TypeReal {
+			// A float32 widened on its way (a union column, a driver) is
+			// written with the digits the float32 itself needs: 70.22, not
+			// 70.22000122070312.
+			bits = 32
+		}
 		switch x := v.(type) {
 		case float64:
-			return canonicalDouble(x)
+			return CanonicalDouble(x, bits)
 		case int64:
-			return canonicalDouble(float64(x))
+			return CanonicalDouble(float64(x), bits)
 		}
 		if f, err := strconv.ParseFloat(plain(v), 64); err == nil {
-			return canonicalDouble(f)
+			return CanonicalDouble(f, bits)
 		}
 	case source.TypeBoolean:
 		switch x := v.(type) {
@@ -256,9 +263,11 @@ func Lexical(v any, kind source.TypeKind) string {
 			return strconv.FormatBool(x != 0)
 		}
 		switch s := strings.ToLower(plain(v)); s {
-		case "1", "true", "t":
+		case "1", "true", "t", "\x01":
 			return "true"
-		case "0", "false", "f":
+		case "0", "false", "f", "\x00":
+			// "\x00" and "\x01": MySQL's BIT(1), read through a union or a
+			// derived table, arrives as one raw byte.
 			return "false"
 		}
 	case source.TypeBinary:
@@ -325,10 +334,13 @@ func canonicalDecimal(s string) string {
 	return strings.TrimSuffix(out, ".")
 }
 
-// canonicalDouble writes f in the XSD canonical form for xsd:double: a mantissa
+// CanonicalDouble writes f in the XSD canonical form for xsd:double: a mantissa
 // with one digit before the point and at least one after, and an exponent
 // ("1.5E2", "0.0E0", "INF", "NaN").
-func canonicalDouble(f float64) string {
+//
+// bits is 32 for a value that is a float32's: the shortest digits that read
+// back as that float32 are written.
+func CanonicalDouble(f float64, bits int) string {
 	switch {
 	case math.IsNaN(f):
 		return "NaN"
@@ -342,7 +354,10 @@ func canonicalDouble(f float64) string {
 		}
 		return "0.0E0"
 	}
-	s := strconv.FormatFloat(f, 'E', -1, 64) // e.g. 1.5E+02, 1E+00
+	if bits == 32 {
+		f = float64(float32(f))
+	}
+	s := strconv.FormatFloat(f, 'E', -1, bits) // e.g. 1.5E+02, 1E+00
 	mant, exp, _ := strings.Cut(s, "E")
 	if !strings.Contains(mant, ".") {
 		mant += ".0"
@@ -383,7 +398,7 @@ func ParseLexical(lexical string, kind source.TypeKind) (any, bool) {
 			return nil, false
 		}
 		v = n
-	case source.TypeFloat:
+	case source.TypeFloat, source.TypeReal:
 		f, err := strconv.ParseFloat(lexical, 64)
 		if err != nil {
 			return nil, false

@@ -255,7 +255,7 @@ func (q *query) valueSQL(b *branch, e algebra.Expr) (sql.Expr, class) {
 
 func kindClass(k source.TypeKind) class {
 	switch k {
-	case source.TypeInteger, source.TypeFloat, source.TypeDecimal:
+	case source.TypeInteger, source.TypeFloat, source.TypeReal, source.TypeDecimal:
 		return classNumeric
 	case source.TypeString:
 		return classString

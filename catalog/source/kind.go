@@ -13,7 +13,9 @@ func pgKind(typname string) TypeKind {
 		return TypeInteger
 	case "numeric":
 		return TypeDecimal
-	case "float4", "float8":
+	case "float4":
+		return TypeReal
+	case "float8":
 		return TypeFloat
 	case "bool":
 		return TypeBoolean
@@ -52,7 +54,9 @@ func mysqlKind(typ string) TypeKind {
 		return TypeInteger
 	case "decimal", "numeric":
 		return TypeDecimal
-	case "float", "double", "real":
+	case "float":
+		return TypeReal
+	case "double", "real":
 		return TypeFloat
 	case "char", "varchar", "tinytext", "text", "mediumtext", "longtext", "enum", "set":
 		return TypeString

@@ -46,6 +46,11 @@ const (
 	TypeTime                        // string "HH:MM:SS[.fraction]"
 	TypeTimestamp                   // time.Time, no zone (read as UTC)
 	TypeTimestampTZ                 // time.Time with its zone
+	// TypeReal is a single-precision float (PostgreSQL REAL / FLOAT4, MySQL
+	// FLOAT): float64 holding a float32's value. Kept apart from TypeFloat so
+	// that its values are written with the digits a float32 needs, and so that
+	// SQL never widens it by sharing a union column with a double.
+	TypeReal
 )
 
 var kindNames = [...]string{
@@ -54,6 +59,7 @@ var kindNames = [...]string{
 	TypeInteger:     "integer",
 	TypeDecimal:     "decimal",
 	TypeFloat:       "float",
+	TypeReal:        "real",
 	TypeBoolean:     "boolean",
 	TypeBinary:      "binary",
 	TypeDate:        "date",

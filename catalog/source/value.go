@@ -20,7 +20,7 @@ func fromText(k TypeKind, s string) (any, error) {
 			return nil, fmt.Errorf("%q is not a decimal number", s)
 		}
 		return s, nil
-	case TypeFloat:
+	case TypeFloat, TypeReal:
 		return strconv.ParseFloat(s, 64)
 	case TypeBoolean:
 		return strconv.ParseBool(s)
@@ -226,7 +226,7 @@ func fromInt(k TypeKind, v int64) (any, error) {
 		return v, nil
 	case TypeBoolean:
 		return v != 0, nil
-	case TypeFloat:
+	case TypeFloat, TypeReal:
 		return float64(v), nil
 	case TypeDecimal, TypeString, TypeOther:
 		return strconv.FormatInt(v, 10), nil
@@ -239,7 +239,7 @@ func fromInt(k TypeKind, v int64) (any, error) {
 
 func fromFloat(k TypeKind, v float64) (any, error) {
 	switch k {
-	case TypeFloat:
+	case TypeFloat, TypeReal:
 		return v, nil
 	case TypeDecimal:
 		s := strconv.FormatFloat(v, 'f', -1, 64)

@@ -33,8 +33,8 @@ func BenchmarkDecodeRow(b *testing.B) {
 	row := []any{int64(1234), "North ridge 7", 3.6}
 	b.ReportAllocs()
 	for b.Loop() {
-		if s.decode(row) == nil {
-			b.Fatal("no solution")
+		if sol, err := s.decode(row); sol == nil || err != nil {
+			b.Fatal("no solution", err)
 		}
 	}
 }

@@ -299,21 +299,33 @@ func (a *avgAcc) result() (rdf.Term, bool) {
 }
 
 // extremeAcc is Min (sign -1) and Max (sign 1) in the ORDER BY order
-// (§18.5.1.5, §18.5.1.6). Values that are errors are left out; no values at
-// all is an error.
+// (§18.5.1.5, §18.5.1.6); no values at all is an error.
 type extremeAcc struct {
 	sign int
 	best rdf.Term
+	// failed records an error value: ORDER BY puts errors (and unbound) first,
+	// so the minimum of values with an error is that error, and MIN is unbound;
+	// MAX is not affected (§18.5.1.5–6 order the values as ORDER BY does).
+	failed bool
 }
 
 func (e *extremeAcc) add(t rdf.Term, err error) error {
-	if err == nil && (e.best == nil || orderTerms(t, e.best)*e.sign > 0) {
+	if err != nil {
+		e.failed = true
+		return nil
+	}
+	if e.best == nil || orderTerms(t, e.best)*e.sign > 0 {
 		e.best = t
 	}
 	return nil
 }
 
-func (e *extremeAcc) result() (rdf.Term, bool) { return e.best, e.best != nil }
+func (e *extremeAcc) result() (rdf.Term, bool) {
+	if e.failed && e.sign < 0 {
+		return nil, false
+	}
+	return e.best, e.best != nil
+}
 
 // sampleAcc is Sample (§18.5.1.8): the first value without error.
 type sampleAcc struct{ value rdf.Term }

@@ -5,6 +5,7 @@ import (
 	"math/big"
 	"strconv"
 	"strings"
+	"veneer/catalog"
 
 	"veneer/catalog/rdf"
 )
@@ -543,28 +544,7 @@ func decimalString(r *big.Rat, withPoint bool) string {
 
 // floatLexical writes the canonical xsd:double (bits 64) or xsd:float (bits
 // 32) form: the shortest mantissa that reads back as the same value.
-func floatLexical(f float64, bits int) string {
-	switch {
-	case math.IsNaN(f):
-		return "NaN"
-	case math.IsInf(f, 1):
-		return "INF"
-	case math.IsInf(f, -1):
-		return "-INF"
-	case f == 0:
-		if math.Signbit(f) {
-			return "-0.0E0"
-		}
-		return "0.0E0"
-	}
-	s := strconv.FormatFloat(f, 'E', -1, bits) // 1.5E+02, 1E+00
-	mant, exp, _ := strings.Cut(s, "E")
-	if !strings.Contains(mant, ".") {
-		mant += ".0"
-	}
-	e, _ := strconv.Atoi(exp)
-	return mant + "E" + strconv.Itoa(e)
-}
+func floatLexical(f float64, bits int) string { return catalog.CanonicalDouble(f, bits) }
 
 // stringOfNumber is the XPath cast of a number to xsd:string (F&O §17.1.2):
 // integers and decimals without a trailing ".0"; floats and doubles in plain

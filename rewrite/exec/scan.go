@@ -69,7 +69,12 @@ func (s *scanIter) next() ([]rdf.Term, error) {
 		s.rows = rows
 	}
 	for s.rows.Next() {
-		if sol := s.decode(s.rows.Values()); sol != nil {
+		sol, err := s.decode(s.rows.Values())
+		if err != nil {
+			s.close()
+			return nil, s.r.fail(err)
+		}
+		if sol != nil {
 			return sol, nil
 		}
 	}
@@ -81,27 +86,35 @@ func (s *scanIter) next() ([]rdf.Term, error) {
 	return nil, nil
 }
 
-// decode turns one row into a solution, or nil when a check fails.
-func (s *scanIter) decode(row []any) []rdf.Term {
+// decode turns one row into a solution, or nil when a check fails; the error is
+// a data error (a value that makes no valid IRI).
+func (s *scanIter) decode(row []any) ([]rdf.Term, error) {
 	sol := make([]rdf.Term, s.l.width())
 	for _, d := range s.slots {
 		for _, tb := range d.builders {
-			if t := tb.build(row); t != nil {
+			t, err := tb.build(row)
+			if err != nil {
+				return nil, err
+			}
+			if t != nil {
 				sol[d.slot] = t
 				break
 			}
 		}
 	}
 	for _, ch := range s.checks {
-		t := ch.builder.build(row)
+		t, err := ch.builder.build(row)
+		if err != nil {
+			return nil, err
+		}
 		if t == nil {
 			continue // the check belongs to another union branch
 		}
 		if !rdf.SameTerm(t, sol[ch.slot]) {
-			return nil
+			return nil, nil
 		}
 	}
-	return sol
+	return sol, nil
 }
 
 func (s *scanIter) close() {
@@ -130,52 +143,57 @@ func newTermBuilder(b rewrite.Builder) *termBuilder {
 }
 
 // build builds the term the builder's term map yields from a row, or nil when
-// a column it needs is NULL (R2RML §11: no term, so no triple).
-func (tb *termBuilder) build(row []any) rdf.Term {
+// a column it needs is NULL (R2RML §11: no term, so no triple). A value that
+// makes no valid IRI is a data error (R2RML §11), never a wrong term.
+func (tb *termBuilder) build(row []any) (rdf.Term, error) {
 	b, names, values := tb.b, tb.names, tb.values
 	m := b.Map
 	for _, col := range b.Cols {
 		if col < 0 || col >= len(row) || row[col] == nil {
-			return nil
+			return nil, nil
 		}
 	}
 	var lexical string
 	switch m.Kind {
 	case catalog.Constant:
-		return m.Constant
+		return m.Constant, nil
 	case catalog.Column:
 		if len(b.Cols) != 1 || len(b.Kinds) != 1 {
-			return nil
+			return nil, nil
 		}
 		v, kind := row[b.Cols[0]], b.Kinds[0]
 		if m.TermType == rdf.KindLiteral && m.Datatype == "" && m.Language == "" {
-			return catalog.NaturalLiteral(v, kind)
+			return catalog.NaturalLiteral(v, kind), nil
 		}
 		lexical = catalog.Lexical(v, kind)
 	case catalog.TemplateMap:
 		if len(b.Cols) != len(names) || len(b.Kinds) != len(names) {
-			return nil
+			return nil, nil
 		}
 		for i, name := range names {
 			values[name] = catalog.Lexical(row[b.Cols[i]], b.Kinds[i])
 		}
 		lexical = m.Template.Expand(values, m.TermType == rdf.KindIRI)
 	default:
-		return nil
+		return nil, nil
 	}
 	switch m.TermType {
 	case rdf.KindIRI:
-		return rdf.IRI(lexical)
+		iri, err := m.MakeIRI(lexical)
+		if err != nil {
+			return nil, err
+		}
+		return iri, nil
 	case rdf.KindBlank:
-		return rdf.BlankNode(blankLabel(lexical))
+		return rdf.BlankNode(blankLabel(lexical)), nil
 	}
 	switch {
 	case m.Language != "":
-		return rdf.NewLangString(lexical, m.Language)
+		return rdf.NewLangString(lexical, m.Language), nil
 	case m.Datatype != "":
-		return rdf.NewTyped(lexical, m.Datatype)
+		return rdf.NewTyped(lexical, m.Datatype), nil
 	}
-	return rdf.NewString(lexical)
+	return rdf.NewString(lexical), nil
 }
 
 // blankLabel turns the string a blank node map yields into a label N-Triples

@@ -439,6 +439,7 @@ func newCopySource(tb Table) *copySource {
 	return c
 }
 
+// Next implements pgx.CopyFromSource: it pulls the next row and binds its values.
 func (c *copySource) Next() bool {
 	row, ok := c.next()
 	if !ok {
@@ -452,8 +453,11 @@ func (c *copySource) Next() bool {
 	return true
 }
 
+// Values implements pgx.CopyFromSource.
 func (c *copySource) Values() ([]any, error) { return c.row, nil }
-func (c *copySource) Err() error             { return nil }
+
+// Err implements pgx.CopyFromSource; generating rows cannot fail.
+func (c *copySource) Err() error { return nil }
 
 // ---- MySQL / MariaDB ----
 
