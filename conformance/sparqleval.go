@@ -37,17 +37,17 @@ import (
 // default graph (qt:data) and named graphs (qt:graphData, each named by its
 // file's IRI); mf:result the expected answer.
 const (
-	mfInclude   = rdf.IRI(testManifestNS + "include")
-	mfResult    = rdf.IRI(testManifestNS + "result")
-	mfQueryEval = rdf.IRI(testManifestNS + "QueryEvaluationTest")
-	mfCard      = rdf.IRI(testManifestNS + "resultCardinality")
-	mfLax       = rdf.IRI(testManifestNS + "LaxCardinality")
-	qtNS        = "http://www.w3.org/2001/sw/DataAccess/tests/test-query#"
-	qtData      = rdf.IRI(qtNS + "data")
-	qtGraphData = rdf.IRI(qtNS + "graphData")
-	dawgtNS     = "http://www.w3.org/2001/sw/DataAccess/tests/test-dawg#"
-	dawgtApprov = rdf.IRI(dawgtNS + "approval")
-	dawgtOK     = rdf.IRI(dawgtNS + "Approved")
+	mfInclude     = rdf.IRI(testManifestNS + "include")
+	mfResult      = rdf.IRI(testManifestNS + "result")
+	mfQueryEval   = rdf.IRI(testManifestNS + "QueryEvaluationTest")
+	mfCard        = rdf.IRI(testManifestNS + "resultCardinality")
+	mfLax         = rdf.IRI(testManifestNS + "LaxCardinality")
+	qtNS          = "http://www.w3.org/2001/sw/DataAccess/tests/test-query#"
+	qtData        = rdf.IRI(qtNS + "data")
+	qtGraphData   = rdf.IRI(qtNS + "graphData")
+	dawgtNS       = "http://www.w3.org/2001/sw/DataAccess/tests/test-dawg#"
+	dawgtApproval = rdf.IRI(dawgtNS + "approval")
+	dawgtApproved = rdf.IRI(dawgtNS + "Approved")
 )
 
 // sparqlEvalManifests are the manifests whose mf:include lists name the test
@@ -116,8 +116,8 @@ func (sparqlEvalSuite) Load(dir string) ([]*Group, error) {
 }
 
 // includedManifests returns the paths of the manifests a manifest includes.
-func includedManifests(path string) ([]string, error) {
-	m, err := ReadManifest(path)
+func includedManifests(file string) ([]string, error) {
+	m, err := ReadManifest(file)
 	if err != nil {
 		return nil, err
 	}
@@ -138,7 +138,7 @@ func includedManifests(path string) ([]string, error) {
 		}
 	}
 	if len(out) == 0 {
-		return nil, fmt.Errorf("%s includes no manifests", path)
+		return nil, fmt.Errorf("%s includes no manifests", file)
 	}
 	return out, nil
 }
@@ -181,8 +181,8 @@ type graphLoad struct {
 }
 
 // readEvalManifest reads the evaluation tests of one folder's manifest.
-func readEvalManifest(root, path string, approvedOnly bool) ([]*evalCase, error) {
-	m, err := ReadManifest(path)
+func readEvalManifest(root, file string, approvedOnly bool) ([]*evalCase, error) {
+	m, err := ReadManifest(file)
 	if err != nil {
 		return nil, err
 	}
@@ -202,9 +202,11 @@ func readEvalManifest(root, path string, approvedOnly bool) ([]*evalCase, error)
 			return nil, err
 		}
 		for _, e := range entries {
-			if ty, err := m.Object(e, rdf.RDFType); err != nil {
+			ty, err := m.Object(e, rdf.RDFType)
+			if err != nil {
 				return nil, err
-			} else if ty != rdf.Term(mfQueryEval) {
+			}
+			if ty != rdf.Term(mfQueryEval) {
 				continue
 			}
 			c, err := readEvalCase(m, folder, e, approvedOnly)
@@ -259,23 +261,35 @@ func readEvalCase(m *Manifest, folder string, entry rdf.Term, approvedOnly bool)
 	}
 	c.lax = card == rdf.Term(mfLax)
 	if approvedOnly {
-		if a, err := m.Object(entry, dawgtApprov); err != nil {
+		a, err := m.Object(entry, dawgtApproval)
+		if err != nil {
 			return nil, err
-		} else if a == nil {
+		}
+		switch {
+		case a == nil:
 			c.skip = "not approved by the working group (no dawgt:approval)"
-		} else if a != rdf.Term(dawgtOK) {
+		case a != rdf.Term(dawgtApproved):
 			c.skip = fmt.Sprintf("not approved by the working group (dawgt:approval %v)", a)
 		}
 	}
 	c.readQuery()
 	c.loads = append(c.loads, c.datasetLoads()...)
 	c.loads = dedupeLoads(c.loads)
-	for _, l := range c.loads {
-		if filepath.Ext(l.file) == ".rdf" && c.skip == "" {
-			c.skip = "RDF/XML data (" + filepath.Base(l.file) + ")"
-		}
+	if f := rdfXMLFile(c.loads); f != "" && c.skip == "" {
+		c.skip = "RDF/XML data (" + f + ")"
 	}
 	return c, nil
+}
+
+// rdfXMLFile returns the name of the first document of loads in RDF/XML,
+// which the test data reader does not read, or "".
+func rdfXMLFile(loads []graphLoad) string {
+	for _, l := range loads {
+		if filepath.Ext(l.file) == ".rdf" {
+			return filepath.Base(l.file)
+		}
+	}
+	return ""
 }
 
 // readQuery parses and translates the query, its file: IRI being the base
@@ -360,10 +374,8 @@ func groupByDataset(cases []*evalCase) []*Group {
 		if eg == nil {
 			eg = &evalGroup{loads: c.loads}
 			eg.group = &Group{Name: eg.name(c), Setup: eg.setup}
-			for _, l := range c.loads {
-				if filepath.Ext(l.file) == ".rdf" {
-					eg.group.Setup = nil // its tests are skipped: no database
-				}
+			if rdfXMLFile(c.loads) != "" {
+				eg.group.Setup = nil // its tests are skipped: no database
 			}
 			byKey[key] = eg
 			groups = append(groups, eg.group)

@@ -73,6 +73,8 @@ func explainOp(b *strings.Builder, op Op, depth int) {
 	case *Project:
 		line("project %v", op.Vars)
 		explainOp(b, op.Input, depth+1)
+	case *Path:
+		line("in-process path %s (each step planned on its own)", algebra.PathString(op.Path))
 	case *Distinct:
 		line("in-process distinct")
 		explainOp(b, op.Input, depth+1)

@@ -84,6 +84,16 @@ type Project struct {
 	Vars  []algebra.Var
 }
 
+// Path evaluates a property path in-process (§18.4), asking the planner for
+// each step's triples: the fallback for paths whose ends SQL cannot join (ends
+// of several shapes). Graph is the graph the path runs in (nil: the default
+// graph; otherwise a Const IRI).
+type Path struct {
+	S, O  algebra.Item
+	Path  algebra.Path
+	Graph algebra.Item
+}
+
 // Distinct removes duplicate solutions.
 type Distinct struct{ Input Op }
 
@@ -105,6 +115,7 @@ var (
 	_ Op = (*Group)(nil)
 	_ Op = (*Order)(nil)
 	_ Op = (*Project)(nil)
+	_ Op = (*Path)(nil)
 	_ Op = (*Distinct)(nil)
 	_ Op = (*Slice)(nil)
 )
@@ -120,5 +131,6 @@ func (*Values) op()   {}
 func (*Group) op()    {}
 func (*Order) op()    {}
 func (*Project) op()  {}
+func (*Path) op()     {}
 func (*Distinct) op() {}
 func (*Slice) op()    {}

@@ -251,7 +251,10 @@ func (q *query) op(n algebra.Node, graph algebra.Item) (Op, error) {
 		}
 		return &Slice{Input: in, Offset: n.Offset, Limit: n.Limit}, nil
 	case algebra.PathPattern:
-		return nil, &Unsupported{What: "this property path: its two ends are built by different IRI shapes"}
+		if _, isVar := graph.(algebra.Var); isVar {
+			return nil, &Unsupported{What: "a property path inside GRAPH ?var whose ends SQL cannot join"}
+		}
+		return &Path{S: n.S, O: n.O, Path: n.Path, Graph: graph}, nil
 	case algebra.Service:
 		return nil, &Unsupported{What: "SERVICE"}
 	}

@@ -140,15 +140,14 @@ func (g *generator) props(c *class, n int, ok func(*property) bool) []*property 
 }
 
 // anchor returns patterns that restrict the members of c bound to s to at most
-// max (none when c is that small already), and how many members remain.
-func (g *generator) anchor(c *class, s string, max int) ([]string, int) {
+// max (none when c is that small already).
+func (g *generator) anchor(c *class, s string, max int) []string {
 	if len(c.subjects) <= max {
-		return nil, len(c.subjects)
+		return nil
 	}
 	type option struct {
 		p *property
 		o rdf.Term
-		n int
 	}
 	var opts []option
 	for _, p := range c.props {
@@ -158,17 +157,17 @@ func (g *generator) anchor(c *class, s string, max int) ([]string, int) {
 		// A few objects per property, so that unique ones do not crowd out the rest.
 		for range 3 {
 			o := pick(g, p.distinct)
-			if n := len(p.inverse[o]); n <= max {
-				opts = append(opts, option{p, o, n})
+			if len(p.inverse[o]) <= max {
+				opts = append(opts, option{p, o})
 			}
 		}
 	}
 	if len(opts) == 0 {
 		s0 := pick(g, c.subjects)
-		return []string{fmt.Sprintf("FILTER(%s = %s)", s, term(s0))}, 1
+		return []string{fmt.Sprintf("FILTER(%s = %s)", s, term(s0))}
 	}
 	o := pick(g, opts)
-	return []string{fmt.Sprintf("%s %s %s", s, term(o.p.iri), term(o.o))}, o.n
+	return []string{fmt.Sprintf("%s %s %s", s, term(o.p.iri), term(o.o))}
 }
 
 // uniqueOf returns a random unique property of c, or nil.
@@ -451,7 +450,6 @@ type starPart struct {
 	// oneToOne says each solution is one subject: no subject that matches has
 	// two values for a property used.
 	oneToOne bool
-	rows     int
 }
 
 // starOf makes a star of up to n properties on a member of c, anchored to at
@@ -461,8 +459,7 @@ func (g *generator) starOf(c *class, n int, ok func(*property) bool) *starPart {
 	if st.typed {
 		st.where = append(st.where, st.s+" a "+term(c.iri))
 	}
-	anchor, rows := g.anchor(c, st.s, maxRows)
-	st.rows = rows
+	anchor := g.anchor(c, st.s, maxRows)
 	for _, p := range g.props(c, n, ok) {
 		v := g.varFor(p)
 		st.where = append(st.where, fmt.Sprintf("%s %s %s", st.s, term(p.iri), v))
@@ -566,7 +563,7 @@ func (g *generator) chain() (Query, bool) {
 	// reach it, and take one that keeps the answer small.
 	i := g.r.IntN(len(nodes))
 	if i == 0 {
-		a, _ := g.anchor(c, vars[0], maxRows)
+		a := g.anchor(c, vars[0], maxRows)
 		q.where = append(q.where, a...)
 	} else {
 		reach := map[rdf.Term]int{}
@@ -953,7 +950,7 @@ func (g *generator) distinct() (Query, bool) {
 		q.project = append(q.project, v)
 	}
 	if !q.distinct {
-		a, _ := g.anchor(c, s, maxRows)
+		a := g.anchor(c, s, maxRows)
 		q.where = append(q.where, a...)
 	}
 	if g.chance(0.3) {

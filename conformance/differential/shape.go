@@ -192,16 +192,6 @@ func (p *property) finish(sh *shape) {
 	}
 }
 
-// prop returns the class's property with the given IRI, or nil.
-func (c *class) prop(iri rdf.IRI) *property {
-	for _, p := range c.props {
-		if p.iri == iri {
-			return p
-		}
-	}
-	return nil
-}
-
 // refs returns the class's properties whose objects are members of a class.
 func (c *class) refs() []*property {
 	var out []*property

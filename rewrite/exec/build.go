@@ -114,6 +114,8 @@ func (b *builder) build(op rewrite.Op) (node, error) {
 			scope = append(scope, b.l.slot(v))
 		}
 		return node{it: &projectIter{r: b.r, in: in.it, vars: scope}, scope: scope}, nil
+	case *rewrite.Path:
+		return b.path(op)
 	case *rewrite.Distinct:
 		in, err := b.build(op.Input)
 		if err != nil {

@@ -86,9 +86,22 @@ func (p *printer) selectBlock(s *Select) {
 	}
 	if len(s.From) > 0 {
 		p.w(" FROM ")
+		// A comma binds more loosely than JOIN, so ON conditions of a LEFT JOIN
+		// could not see the tables before the last comma: with a LEFT JOIN in the
+		// list, the items join explicitly. (SQLite's CROSS JOIN would fix the join
+		// order; its plain JOIN without ON is the same product, reordered freely.)
+		sep := ", "
+		for _, f := range s.From {
+			if _, ok := f.(*LeftJoin); ok {
+				sep = " CROSS JOIN "
+				if p.dialect == source.SQLite {
+					sep = " JOIN "
+				}
+			}
+		}
 		for i, f := range s.From {
 			if _, ok := f.(*LeftJoin); !ok && i > 0 {
-				p.w(", ")
+				p.w(sep)
 			}
 			p.from(f)
 		}
@@ -212,9 +225,6 @@ func (p *printer) expr(e Expr) {
 		p.w("NULL")
 	case Binary:
 		p.w("(")
-		if e.Exact && p.dialect == source.MySQL {
-			p.w("BINARY ")
-		}
 		p.expr(e.L)
 		if e.Exact && p.dialect == source.Postgres && e.Op != "=" && e.Op != "<>" {
 			// Ordering of strings by code point, as SPARQL orders them (§17.4.1.7
@@ -222,16 +232,26 @@ func (p *printer) expr(e Expr) {
 			p.w(` COLLATE "C"`)
 		}
 		p.w(" ", e.Op, " ")
+		if e.Exact && p.dialect == source.MySQL {
+			// A binary right operand makes the comparison binary while an index
+			// on the left column still serves it (BINARY on the column would not).
+			p.w("BINARY ")
+		}
 		p.expr(e.R)
 		p.w(")")
 	case In:
 		p.w("(")
-		if e.Exact && p.dialect == source.MySQL {
-			p.w("BINARY ")
-		}
 		p.expr(e.X)
 		p.w(" IN (")
-		p.list(e.List)
+		for i, v := range e.List {
+			if i > 0 {
+				p.w(", ")
+			}
+			if e.Exact && p.dialect == source.MySQL {
+				p.w("BINARY ") // as in Binary: the column keeps its index
+			}
+			p.expr(v)
+		}
 		p.w("))")
 	case Agg:
 		p.w(e.Name, "(")
