@@ -488,9 +488,15 @@ func diffRows(want, got []solution) (missing, unexpected []string) {
 	return missing, unexpected
 }
 
-// rowKey is rowText with blank nodes masked and language tags in lower case.
+// rowKey is rowText with blank nodes masked, language tags in lower case, and
+// numbers compared by value. The suite's own expected files disagree on the
+// lexical form of one value (functions/ceil01 expects the decimal "-1",
+// aggregates/agg-avg-02 the decimal "2.0"; cast/cast-float "0E0" where
+// canonical xsd:float is "0.0E0"), so no single canonical form can match them
+// all: two numbers of one datatype count as the same term when their values
+// are equal.
 func rowKey(r solution) string {
-	return rowText(fold(r, false), true)
+	return rowText(fold(r, true), true)
 }
 
 // fold returns a solution with language tags in lower case and, with
@@ -573,6 +579,7 @@ const (
 func rowQuads(rows []solution) []rdf.Quad {
 	var qs []rdf.Quad
 	for i, r := range rows {
+		r = fold(r, true) // as rowKey compares them
 		node := rdf.BlankNode(fmt.Sprintf("row%d", i))
 		qs = append(qs, rdf.Quad{S: node, P: rdf.RDFType, O: rowSolution})
 		for n, t := range r {

@@ -24,18 +24,13 @@ func (q *query) fresh() algebra.Var {
 // pathPattern plans S path O as a relation binding S and O (those that are
 // variables); nil when SQL cannot express it.
 func (q *query) pathPattern(n algebra.PathPattern, graph algebra.Item) (*rel, error) {
-	// A constant end is bound after the fact; a constant start is pushed into
-	// the recursion's anchor, so a constant end alone walks the path backwards.
-	if _, sConst := n.S.(algebra.Const); !sConst {
-		if _, oConst := n.O.(algebra.Const); oConst {
-			return q.pathPattern(algebra.PathPattern{S: n.O, Path: algebra.PathInv{Path: n.Path}, O: n.S}, graph)
-		}
-	}
+	// Constant ends are bound after the fact; inside, a recursion starts from
+	// a constant end (walking backwards from a constant end alone).
 	sv, ov := q.endVar(n.S), q.endVar(n.O)
 	if n.S == n.O {
 		ov = q.fresh()
 	}
-	r, err := q.path(n.Path, sv, ov, graph, n.S)
+	r, err := q.path(n.Path, sv, ov, graph, ends{algebra.TermOf(n.S), algebra.TermOf(n.O)})
 	if r == nil || err != nil {
 		return nil, err
 	}
@@ -69,6 +64,11 @@ func (q *query) pathPattern(n algebra.PathPattern, graph algebra.Item) (*rel, er
 	return r, nil
 }
 
+// ends are the constant ends of a path, where it has them (nil: a variable).
+type ends struct{ start, end rdf.Term }
+
+func (e ends) reversed() ends { return ends{e.end, e.start} }
+
 func (q *query) endVar(it algebra.Item) algebra.Var {
 	if v, ok := it.(algebra.Var); ok {
 		return v
@@ -76,32 +76,32 @@ func (q *query) endVar(it algebra.Item) algebra.Var {
 	return q.fresh()
 }
 
-// path plans one path expression between two variables. start, when a
-// constant, is the term the walk starts from (for the zero-length case and the
-// anchor of a recursion).
-func (q *query) path(p algebra.Path, s, o algebra.Var, graph algebra.Item, start algebra.Item) (*rel, error) {
+// path plans one path expression between two variables; at holds the constant
+// ends of the whole pattern where this part of the path touches them (for the
+// zero-length case and the anchor of a recursion).
+func (q *query) path(p algebra.Path, s, o algebra.Var, graph algebra.Item, at ends) (*rel, error) {
 	switch p := p.(type) {
 	case algebra.PathLink:
 		return q.bgp([]algebra.Triple{{S: s, P: algebra.Const{Term: p.IRI}, O: o}}, graph)
 	case algebra.PathInv:
-		return q.path(p.Path, o, s, graph, nil)
+		return q.path(p.Path, o, s, graph, at.reversed())
 	case algebra.PathSeq:
 		mid := q.fresh()
-		l, err := q.path(p.Left, s, mid, graph, start)
+		l, err := q.path(p.Left, s, mid, graph, ends{start: at.start})
 		if l == nil || err != nil {
 			return nil, err
 		}
-		r, err := q.path(p.Right, mid, o, graph, nil)
+		r, err := q.path(p.Right, mid, o, graph, ends{end: at.end})
 		if r == nil || err != nil {
 			return nil, err
 		}
 		return q.join(l, r)
 	case algebra.PathAlt:
-		l, err := q.path(p.Left, s, o, graph, start)
+		l, err := q.path(p.Left, s, o, graph, at)
 		if l == nil || err != nil {
 			return nil, err
 		}
-		r, err := q.path(p.Right, s, o, graph, start)
+		r, err := q.path(p.Right, s, o, graph, at)
 		if r == nil || err != nil {
 			return nil, err
 		}
@@ -109,19 +109,19 @@ func (q *query) path(p algebra.Path, s, o algebra.Var, graph algebra.Item, start
 	case algebra.PathNegated:
 		return q.negated(p, s, o, graph)
 	case algebra.PathOneOrMore:
-		return q.closure(p.Path, s, o, graph, start)
+		return q.closure(p.Path, s, o, graph, at)
 	case algebra.PathZeroOrMore:
-		plus, err := q.closure(p.Path, s, o, graph, start)
+		plus, err := q.closure(p.Path, s, o, graph, at)
 		if plus == nil || err != nil {
 			return nil, err
 		}
-		return q.withZeroLength(plus, s, o, graph, start)
+		return q.withZeroLength(plus, s, o, graph, at)
 	case algebra.PathZeroOrOne:
-		one, err := q.path(p.Path, s, o, graph, start)
+		one, err := q.path(p.Path, s, o, graph, at)
 		if one == nil || err != nil {
 			return nil, err
 		}
-		return q.withZeroLength(one, s, o, graph, start)
+		return q.withZeroLength(one, s, o, graph, at)
 	}
 	return nil, nil
 }
@@ -175,8 +175,12 @@ func (q *query) negated(p algebra.PathNegated, s, o algebra.Var, graph algebra.I
 // closure plans p+ as a recursive CTE over the distinct pairs of p. It needs
 // the pairs' ends to have one shape, the same at both ends, so a step joins on
 // columns.
-func (q *query) closure(p algebra.Path, s, o algebra.Var, graph algebra.Item, start algebra.Item) (*rel, error) {
-	step, err := q.path(p, s, o, graph, nil)
+func (q *query) closure(p algebra.Path, s, o algebra.Var, graph algebra.Item, at ends) (*rel, error) {
+	if at.start == nil && at.end != nil {
+		// Only the end is known: walk backwards from it.
+		return q.closure(algebra.PathInv{Path: p}, o, s, graph, at.reversed())
+	}
+	step, err := q.path(p, s, o, graph, ends{})
 	if step == nil || err != nil {
 		return nil, err
 	}
@@ -196,18 +200,18 @@ func (q *query) closure(p algebra.Path, s, o algebra.Var, graph algebra.Item, st
 	if groupKey(startShape) != groupKey(endShape) {
 		// A step's end can never be a step's start: no path is longer than one step.
 		if !q.mayEqual(startShape, endShape) {
-			return q.path(p, s, o, graph, nil)
+			return q.path(p, s, o, graph, ends{})
 		}
 		return nil, nil
 	}
 	anchor := stepClosed
-	if c, isConst := start.(algebra.Const); isConst {
+	if at.start != nil {
 		// Start the walk at the constant: only its first steps seed the recursion.
-		first, err := q.path(p, s, o, graph, nil)
+		first, err := q.path(p, s, o, graph, ends{})
 		if first == nil || err != nil {
 			return nil, err
 		}
-		if !q.restrict(first, algebra.Values{Vars: []algebra.Var{s}, Rows: [][]rdf.Term{{c.Term}}}) {
+		if !q.restrict(first, algebra.Values{Vars: []algebra.Var{s}, Rows: [][]rdf.Term{{at.start}}}) {
 			return nil, nil
 		}
 		if len(first.branches) == 0 {
@@ -251,7 +255,7 @@ func (q *query) closure(p algebra.Path, s, o algebra.Var, graph algebra.Item, st
 	}
 	b := &branch{from: []sql.From{&sql.Recursive{Name: name, Columns: cols, Anchor: anchorSel, Step: stepSel, Alias: alias}},
 		vars: map[algebra.Var]binding{}}
-	at := 0
+	col := 0
 	for _, end := range []struct {
 		v  algebra.Var
 		bl Builder
@@ -261,12 +265,12 @@ func (q *query) closure(p algebra.Path, s, o algebra.Var, graph algebra.Item, st
 			t := stepClosed.types[c]
 			t.NotNull = true // every pair binds both ends
 			if end.bl.Map.Kind == catalog.Constant {
-				occ.marker = ref(alias, at)
+				occ.marker = ref(alias, col)
 			} else {
-				occ.exprs = append(occ.exprs, ref(alias, at))
+				occ.exprs = append(occ.exprs, ref(alias, col))
 				occ.cols = append(occ.cols, t)
 			}
-			at++
+			col++
 		}
 		b.vars[end.v] = binding{alts: []occurrence{occ}}
 	}
@@ -284,11 +288,16 @@ func colsAt(types []source.Column, idx []int) []source.Column {
 // withZeroLength adds the zero-length pairs to a path's (§18.4: the start term
 // itself when it is a constant, else every node of the graph paired with itself)
 // and removes repeats: p* and p? are sets.
-func (q *query) withZeroLength(r *rel, s, o algebra.Var, graph algebra.Item, start algebra.Item) (*rel, error) {
+func (q *query) withZeroLength(r *rel, s, o algebra.Var, graph algebra.Item, at ends) (*rel, error) {
 	var zero *rel
-	if c, isConst := start.(algebra.Const); isConst {
+	c := at.start
+	if c == nil {
+		c = at.end
+	}
+	if c != nil {
+		// The constant end itself, whether or not the graph holds it (§18.4).
 		zero = &rel{branches: []*branch{{vars: map[algebra.Var]binding{}}}}
-		if !q.extend(zero, s, c) || !q.extend(zero, o, c) {
+		if !q.extend(zero, s, algebra.Const{Term: c}) || !q.extend(zero, o, algebra.Const{Term: c}) {
 			return nil, nil
 		}
 	} else {

@@ -2,8 +2,8 @@ package rewrite_test
 
 import (
 	"context"
-	"errors"
 	"database/sql"
+	"errors"
 	"flag"
 	"os"
 	"path/filepath"

@@ -29,6 +29,14 @@ type Var string
 // Const is an RDF term in a pattern or an expression.
 type Const struct{ Term rdf.Term }
 
+// TermOf returns the term of a Const item, or nil for a Var.
+func TermOf(it Item) rdf.Term {
+	if c, ok := it.(Const); ok {
+		return c.Term
+	}
+	return nil
+}
+
 // Hidden reports whether v stands for a blank node of the query.
 func (v Var) Hidden() bool { return len(v) > 2 && v[0] == '_' && v[1] == ':' }
 

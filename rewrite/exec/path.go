@@ -68,7 +68,7 @@ func (p *pathIter) close() { p.done, p.sols = true, nil }
 func (p *pathIter) compute() error {
 	r := p.b.r
 	e := &pathEval{r: r, graph: p.op.Graph, steps: map[string][]pair{}}
-	from, to := constTerm(p.op.S), constTerm(p.op.O)
+	from, to := algebra.TermOf(p.op.S), algebra.TermOf(p.op.O)
 	pairs, err := e.pairs(p.op.Path, from, to)
 	if err != nil {
 		return err
@@ -91,13 +91,6 @@ func (p *pathIter) compute() error {
 		if len(p.sols) > r.limit {
 			return r.tooLarge("a property path evaluated in-process")
 		}
-	}
-	return nil
-}
-
-func constTerm(it algebra.Item) rdf.Term {
-	if c, ok := it.(algebra.Const); ok {
-		return c.Term
 	}
 	return nil
 }
