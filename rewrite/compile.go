@@ -40,5 +40,14 @@ func (pl *Planner) CompileRequest(r Request) (*Plan, *algebra.Query, error) {
 		q.Dataset = *r.Dataset
 	}
 	p, err := pl.Plan(q)
-	return p, q, err
+	if err != nil {
+		return nil, q, err
+	}
+	p.Base = r.Base
+	for _, d := range ast.Prologue {
+		if !d.IsPrefix {
+			p.Base = string(d.IRI) // already resolved against the base before it
+		}
+	}
+	return p, q, nil
 }

@@ -29,6 +29,9 @@ type Plan struct {
 	Template []algebra.Triple
 	// Describe lists the resources of DESCRIBE: IRIs, or variables bound by Root.
 	Describe []algebra.Item
+	// Base is the base IRI in effect after the query's prologue (its last BASE,
+	// or the request's), which IRI() and URI() resolve against; empty for none.
+	Base string
 	// Planner plans the patterns that evaluation meets on the way: EXISTS with a
 	// solution substituted in, and the description of each DESCRIBE resource,
 	// over the query's dataset.

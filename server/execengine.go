@@ -3,32 +3,31 @@ package server
 import (
 	"context"
 	"database/sql"
-	"errors"
 
 	"veneer/rewrite"
 	"veneer/rewrite/algebra"
 	"veneer/rewrite/exec"
-	"veneer/rewrite/sparql"
 	"veneer/server/results"
 )
 
-// FromExec adapts veneer's query engine to the server. The engine answers
-// the four query forms over the service's own dataset; a request that names a
-// dataset with default-graph-uri or named-graph-uri is refused with a client
-// error until the engine takes one.
+// FromExec adapts veneer's query engine to the server.
 func FromExec(e *exec.Engine) Engine { return execEngine{e} }
 
 type execEngine struct{ e *exec.Engine }
 
-var errNoProtocolDataset = &exec.Error{Kind: exec.BadQuery,
-	Err: errors.New("this endpoint does not take default-graph-uri or named-graph-uri yet; name graphs in the query with GRAPH")}
+// request is the planner's form of a protocol query: default-graph-uri and
+// named-graph-uri, when given, are its dataset (SPARQL 1.1 Protocol §2.1.4).
+func request(q Query) rewrite.Request {
+	r := rewrite.Request{Text: q.Text, Base: q.Base}
+	if len(q.DefaultGraphs) > 0 || len(q.NamedGraphs) > 0 {
+		r.Dataset = &algebra.Dataset{Default: q.DefaultGraphs, Named: q.NamedGraphs}
+	}
+	return r
+}
 
 // Query implements Engine.
 func (x execEngine) Query(ctx context.Context, q Query) (*Answer, error) {
-	if len(q.DefaultGraphs) > 0 || len(q.NamedGraphs) > 0 {
-		return nil, errNoProtocolDataset
-	}
-	c, err := x.e.Query(ctx, q.Text)
+	c, err := x.e.QueryRequest(ctx, request(q))
 	if err != nil {
 		return nil, err
 	}
@@ -36,7 +35,7 @@ func (x execEngine) Query(ctx context.Context, q Query) (*Answer, error) {
 		// The cursor does not show its plan; planning again is cheap next to
 		// a query slow enough to be logged.
 		SQL: func() []string {
-			p, err := x.e.Planner.Compile(q.Text)
+			p, _, err := x.e.Planner.CompileRequest(request(q))
 			if err != nil {
 				return nil
 			}
@@ -66,18 +65,7 @@ func (x execEngine) Ready(ctx context.Context) error { return x.e.Ready(ctx) }
 // Explain implements Explainer: the algebra of the query and the planner's
 // account of its plan.
 func (x execEngine) Explain(_ context.Context, q Query) (*Explanation, error) {
-	if len(q.DefaultGraphs) > 0 || len(q.NamedGraphs) > 0 {
-		return nil, errNoProtocolDataset
-	}
-	ast, err := sparql.Parse(q.Text)
-	if err != nil {
-		return nil, &exec.Error{Kind: exec.BadQuery, Err: err}
-	}
-	aq, err := algebra.Translate(ast)
-	if err != nil {
-		return nil, &exec.Error{Kind: exec.BadQuery, Err: err}
-	}
-	p, err := x.e.Planner.Plan(aq)
+	p, aq, err := x.e.Planner.CompileRequest(request(q))
 	if err != nil {
 		return nil, &exec.Error{Kind: exec.BadQuery, Err: err}
 	}

@@ -72,6 +72,9 @@ func (o Options) Run(ctx context.Context, src source.Source, p *rewrite.Plan) (*
 	if p.Planner != nil {
 		pp = p.Planner
 	}
+	if p.Base != "" {
+		o.Base = p.Base // the query's own BASE, or its request's, comes first
+	}
 	return start(ctx, src, pp, p, o)
 }
 

@@ -18,7 +18,13 @@ type Engine struct {
 
 // Query compiles and starts a query. The returned cursor must be closed.
 func (e *Engine) Query(ctx context.Context, text string) (*Cursor, error) {
-	p, err := e.Planner.Compile(text)
+	return e.QueryRequest(ctx, rewrite.Request{Text: text})
+}
+
+// QueryRequest compiles and starts a query with what the protocol adds to it
+// (base IRI, dataset). The returned cursor must be closed.
+func (e *Engine) QueryRequest(ctx context.Context, r rewrite.Request) (*Cursor, error) {
+	p, _, err := e.Planner.CompileRequest(r)
 	if err != nil {
 		if pe := planError(err); pe != nil {
 			return nil, pe
@@ -81,5 +87,10 @@ func classify(ctx context.Context, err error) error {
 	if errors.As(err, &e) {
 		return err
 	}
-	return &Error{Kind: Unavailable, Err: err}
+	if source.IsUnavailable(err) {
+		return &Error{Kind: Unavailable, Err: err}
+	}
+	// The database refused the statement: a fault of ours (or of a view's SQL),
+	// not a reason to try again.
+	return &Error{Kind: Internal, Err: err}
 }
