@@ -468,3 +468,35 @@ func (q *query) fkObject(pr producer, child string) (occurrence, bool) {
 	}
 	return o, true
 }
+
+// graphNames binds v to the name of each named graph of the dataset: the terms
+// the catalog's graph maps produce (R2RML §9), each once.
+func (q *query) graphNames(v algebra.Var) *rel {
+	r := &rel{vars: []algebra.Var{v}, dedup: true}
+	for _, c := range q.candidates(v) {
+		b := &branch{vars: map[algebra.Var]binding{}}
+		alias := q.alias("t")
+		b.from = append(b.from, q.fromItem(c.p.tm.Table, alias))
+		g := q.base(*c.graph, alias, c.p.tm.Table)
+		if a := g.active(); a != nil {
+			b.where = append(b.where, a)
+		}
+		if c.only != nil {
+			var options []sql.Expr
+			for _, iri := range c.only {
+				if conds, ok := q.constConds(g, iri); ok {
+					options = append(options, sql.And(conds...))
+				}
+			}
+			if len(options) == 0 {
+				continue
+			}
+			if cond := or(options...); cond != nil {
+				b.where = append(b.where, cond)
+			}
+		}
+		b.vars[v] = binding{alts: []occurrence{g}}
+		r.branches = append(r.branches, b)
+	}
+	return r
+}

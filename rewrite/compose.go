@@ -30,6 +30,9 @@ func (q *query) relation(n algebra.Node, graph algebra.Item) (*rel, modifiers, e
 		}
 		return r, none, nil
 	case algebra.Graph:
+		if _, isVar := n.Name.(algebra.Var); isVar && !carriesGraph(n.Input) {
+			return nil, none, nil // graph by graph, in-process (see op)
+		}
 		return q.relation(n.Input, n.Name)
 	case algebra.PathPattern:
 		r, err := q.pathPattern(n, graph)
@@ -82,7 +85,8 @@ func (q *query) relation(n algebra.Node, graph algebra.Item) (*rel, modifiers, e
 		if l == nil || err != nil {
 			return nil, none, err
 		}
-		return q.minus(l, r), none, nil
+		graphVar, _ := graph.(algebra.Var)
+		return q.minus(l, r, graphVar), none, nil
 	case algebra.Extend:
 		r, mod, err := q.relation(n.Input, graph)
 		if r == nil || err != nil || !plain(mod) {

@@ -75,6 +75,9 @@ func explainOp(b *strings.Builder, op Op, depth int) {
 		explainOp(b, op.Input, depth+1)
 	case *Path:
 		line("in-process path %s (each step planned on its own)", algebra.PathString(op.Path))
+	case *PerGraph:
+		line("in-process: for each named graph ?%s, %s", op.Var, "the pattern planned in that graph")
+		explainOp(b, op.Names, depth+1)
 	case *Distinct:
 		line("in-process distinct")
 		explainOp(b, op.Input, depth+1)

@@ -9,15 +9,17 @@ import (
 // EXISTS sub-queries over the other pattern's statement.
 
 // minus removes from each branch of l the rows with a compatible solution of r
-// that shares a bound variable with them (§18.5 Minus). nil when SQL cannot.
-func (q *query) minus(l, r *rel) *rel {
+// that shares a bound variable with them (§18.5 Minus). Inside GRAPH ?g the two
+// sides are evaluated graph by graph (§18.5 Graph), so graphVar, which both
+// carry, must agree but does not count as a shared variable. nil when SQL cannot.
+func (q *query) minus(l, r *rel, graphVar algebra.Var) *rel {
 	l, ok := q.deduped(l)
 	if !ok {
 		return nil
 	}
 	shared := false
 	for _, v := range r.vars {
-		if indexOfVar(l.vars, v) >= 0 {
+		if v != graphVar && indexOfVar(l.vars, v) >= 0 {
 			shared = true
 		}
 	}
@@ -25,7 +27,7 @@ func (q *query) minus(l, r *rel) *rel {
 		return l // no solution of r shares a variable: nothing is removed
 	}
 	for _, b := range l.branches {
-		cond, ok := q.existsCond(b, r, true)
+		cond, ok := q.existsCond(b, r, true, graphVar)
 		if !ok {
 			return nil
 		}
@@ -37,7 +39,7 @@ func (q *query) minus(l, r *rel) *rel {
 // existsCond is EXISTS (a row of r compatible with the branch's row). With
 // needShared, the two must also both bind at least one common variable (MINUS);
 // without it, a row sharing nothing is compatible (EXISTS).
-func (q *query) existsCond(b *branch, r *rel, needShared bool) (sql.Expr, bool) {
+func (q *query) existsCond(b *branch, r *rel, needShared bool, graphVar algebra.Var) (sql.Expr, bool) {
 	d, ok := q.derived(r, modifiers{limit: -1})
 	if !ok {
 		return nil, false
@@ -85,7 +87,9 @@ func (q *query) existsCond(b *branch, r *rel, needShared bool) (sql.Expr, bool) 
 		} else {
 			conds = append(conds, or(options...))
 		}
-		bothBound = append(bothBound, sql.And(a.active(), rBound))
+		if v != graphVar {
+			bothBound = append(bothBound, sql.And(a.active(), rBound))
+		}
 	}
 	if needShared {
 		bb := or(bothBound...)
@@ -112,7 +116,7 @@ func (q *query) existsSQL(b *branch, e algebra.Exists) (sql.Expr, bool) {
 	if r, err = q.nest(r, mod); r == nil || err != nil {
 		return nil, false
 	}
-	cond, ok := q.existsCond(b, r, false)
+	cond, ok := q.existsCond(b, r, false, "")
 	if !ok {
 		return nil, false
 	}

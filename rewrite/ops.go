@@ -94,6 +94,17 @@ type Path struct {
 	Graph algebra.Item
 }
 
+// PerGraph evaluates Input once in each named graph (§18.5: eval(D, Graph(?g,
+// P)) joins eval(D(g), P) with ?g = g for every graph g): the fallback for
+// patterns under GRAPH ?g whose own triple patterns do not carry the graph
+// (sub-queries, VALUES, an empty group, paths). Names yields the graph names,
+// bound to Var; each graph's Input is planned as GRAPH <g> { Input }.
+type PerGraph struct {
+	Var   algebra.Var
+	Names Op
+	Input algebra.Node
+}
+
 // Distinct removes duplicate solutions.
 type Distinct struct{ Input Op }
 
@@ -116,6 +127,7 @@ var (
 	_ Op = (*Order)(nil)
 	_ Op = (*Project)(nil)
 	_ Op = (*Path)(nil)
+	_ Op = (*PerGraph)(nil)
 	_ Op = (*Distinct)(nil)
 	_ Op = (*Slice)(nil)
 )
@@ -132,5 +144,6 @@ func (*Group) op()    {}
 func (*Order) op()    {}
 func (*Project) op()  {}
 func (*Path) op()     {}
+func (*PerGraph) op() {}
 func (*Distinct) op() {}
 func (*Slice) op()    {}

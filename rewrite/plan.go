@@ -209,6 +209,13 @@ func (q *query) op(n algebra.Node, graph algebra.Item) (Op, error) {
 		}
 		return &Minus{Left: l, Right: r}, nil
 	case algebra.Graph:
+		if v, isVar := n.Name.(algebra.Var); isVar && !carriesGraph(n.Input) {
+			names, err := q.scan(q.graphNames(v), modifiers{vars: []algebra.Var{v}, distinct: true, limit: -1})
+			if err != nil {
+				return nil, err
+			}
+			return &PerGraph{Var: v, Names: names, Input: n.Input}, nil
+		}
 		return q.op(n.Input, n.Name)
 	case algebra.Values:
 		return &Values{Vars: n.Vars, Rows: n.Rows}, nil
@@ -262,6 +269,42 @@ func (q *query) op(n algebra.Node, graph algebra.Item) (Op, error) {
 		return nil, &Unsupported{What: "SERVICE"}
 	}
 	return nil, &Unsupported{What: fmt.Sprintf("the algebra operator %T", n)}
+}
+
+// carriesGraph reports whether every solution of n comes from triple patterns
+// read in the graph context, so that GRAPH ?g can bind ?g through them. Other
+// parts (a sub-query, which hides the graph; an empty group; a path with
+// zero-length steps) must be evaluated graph by graph; parts that read no graph
+// at all (VALUES, BIND of constants) may join those that carry it.
+func carriesGraph(n algebra.Node) bool {
+	switch n := n.(type) {
+	case algebra.BGP:
+		return len(n.Patterns) > 0
+	case algebra.Join:
+		return carriesGraph(n.Left) && (carriesGraph(n.Right) || readsNoGraph(n.Right)) ||
+			readsNoGraph(n.Left) && carriesGraph(n.Right)
+	case algebra.LeftJoin, algebra.Minus:
+		l, r := n.Children()[0], n.Children()[1]
+		return carriesGraph(l) && (carriesGraph(r) || readsNoGraph(r))
+	case algebra.Union:
+		return carriesGraph(n.Left) && carriesGraph(n.Right)
+	case algebra.Filter, algebra.Extend, algebra.Graph:
+		return carriesGraph(n.Children()[0])
+	}
+	return false
+}
+
+// readsNoGraph reports whether n's solutions do not depend on the data.
+func readsNoGraph(n algebra.Node) bool {
+	switch n := n.(type) {
+	case algebra.Values, algebra.Table:
+		return true
+	case algebra.BGP:
+		return len(n.Patterns) == 0
+	case algebra.Extend:
+		return readsNoGraph(n.Input)
+	}
+	return false
 }
 
 func (q *query) pair(l, r algebra.Node, graph algebra.Item) (Op, Op, error) {

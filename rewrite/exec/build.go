@@ -116,6 +116,8 @@ func (b *builder) build(op rewrite.Op) (node, error) {
 		return node{it: &projectIter{r: b.r, in: in.it, vars: scope}, scope: scope}, nil
 	case *rewrite.Path:
 		return b.path(op)
+	case *rewrite.PerGraph:
+		return b.perGraph(op)
 	case *rewrite.Distinct:
 		in, err := b.build(op.Input)
 		if err != nil {
