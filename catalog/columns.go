@@ -23,6 +23,8 @@ type Columns struct {
 	foreign map[string][]source.ForeignKey
 	// dialect is the source's, whose rules decide which column a name finds.
 	dialect source.Dialect
+	// found holds the column each (table key, name) of the catalog resolves to.
+	found map[string]source.Column
 }
 
 // Key identifies a logical table: its name, or its query text for a view.
@@ -81,7 +83,46 @@ func Check(ctx context.Context, src source.Source, cat *Catalog) (*Columns, Erro
 		problems = append(problems, c.checkMap(tm)...)
 		files = append(files, tm.Pos.File)
 	}
+	c.remember(cat)
 	return c, problems.Sorted(files...)
+}
+
+// remember resolves every column name the catalog uses once, so that the
+// planner's many lookups are map reads; the map is not written again, so
+// concurrent planners may read it.
+func (c *Columns) remember(cat *Catalog) {
+	c.found = map[string]source.Column{}
+	add := func(t LogicalTable, name string) {
+		if col, err := c.resolve(t, name); err == nil {
+			c.found[t.Key()+"\x00"+name] = col
+		}
+	}
+	terms := func(t LogicalTable, ms ...TermMap) {
+		for _, m := range ms {
+			for _, col := range m.Columns() {
+				add(t, col)
+			}
+		}
+	}
+	for _, tm := range cat.Maps {
+		terms(tm.Table, tm.Subject)
+		terms(tm.Table, tm.Graphs...)
+		for _, pom := range tm.PredicateObjects {
+			terms(tm.Table, pom.Predicates...)
+			terms(tm.Table, pom.Graphs...)
+			for _, om := range pom.Objects {
+				if om.Term != nil {
+					terms(tm.Table, *om.Term)
+					continue
+				}
+				for _, j := range om.Ref.Joins {
+					add(tm.Table, j.Child)
+					add(om.Ref.Parent.Table, j.Parent)
+				}
+				terms(om.Ref.Parent.Table, om.Ref.Parent.Subject)
+			}
+		}
+	}
 }
 
 // tablePos is where a triples map's logical table was written, or the map's
@@ -437,6 +478,13 @@ func naturalName(k source.TypeKind) string {
 // Lookup finds a column of a logical table by the name a mapping gives it,
 // as the source's database would resolve it (see Ident.Matches).
 func (c *Columns) Lookup(t LogicalTable, name string) (source.Column, error) {
+	if col, ok := c.found[t.Key()+"\x00"+name]; ok {
+		return col, nil
+	}
+	return c.resolve(t, name)
+}
+
+func (c *Columns) resolve(t LogicalTable, name string) (source.Column, error) {
 	cols := c.tables[t.Key()]
 	id, err := columnIdent(name)
 	if err != nil {

@@ -73,7 +73,17 @@ func (q *query) bgp(patterns []algebra.Triple, graph algebra.Item) (*rel, error)
 	if v, ok := graph.(algebra.Var); ok && len(patterns) > 0 {
 		r.addVar(v)
 	}
-	cands := q.candidates(graph)
+	all := q.candidates(graph)
+	// Each pattern's candidates, cut down first by what is cheap to compare: a
+	// constant predicate, and a constant class of rdf:type.
+	cands := make([][]candidate, len(patterns))
+	for i, t := range patterns {
+		for _, c := range all {
+			if mayProduce(c.p.predicate, t.P) && (!isTypeOf(c.p, t) || mayProduce(c.p.object, t.O)) {
+				cands[i] = append(cands[i], c)
+			}
+		}
+	}
 	var walk func(i int, b *branch) error
 	walk = func(i int, b *branch) error {
 		if i == len(patterns) {
@@ -83,7 +93,7 @@ func (q *query) bgp(patterns []algebra.Triple, graph algebra.Item) (*rel, error)
 			r.branches = append(r.branches, b)
 			return nil
 		}
-		for _, c := range cands {
+		for _, c := range cands[i] {
 			nb := b.clone()
 			if q.addPattern(nb, patterns[i], c, graph) {
 				if err := walk(i+1, nb); err != nil {
@@ -499,4 +509,21 @@ func (q *query) graphNames(v algebra.Var) *rel {
 		r.branches = append(r.branches, b)
 	}
 	return r
+}
+
+// mayProduce is a quick test: false when m is a constant map whose term is not
+// the constant it, so the candidate cannot match; true otherwise.
+func mayProduce(m catalog.TermMap, it algebra.Item) bool {
+	c, isConst := it.(algebra.Const)
+	if !isConst || m.Kind != catalog.Constant {
+		return true
+	}
+	return rdf.SameTerm(m.Constant, c.Term)
+}
+
+// isTypeOf reports whether the pattern asks for rdf:type and the producer makes
+// rdf:type triples, so that the class can be compared early.
+func isTypeOf(p producer, t algebra.Triple) bool {
+	c, ok := t.P.(algebra.Const)
+	return ok && c.Term == rdf.RDFType && p.predicate.Kind == catalog.Constant && p.predicate.Constant == rdf.RDFType
 }
