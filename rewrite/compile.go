@@ -28,6 +28,21 @@ func (pl *Planner) Compile(text string) (*Plan, error) {
 // CompileRequest parses, translates and plans a request, and returns the
 // algebra too (for explain).
 func (pl *Planner) CompileRequest(r Request) (*Plan, *algebra.Query, error) {
+	limitsGiven := r.Limits != (sparql.Limits{})
+	key := requestKey(r)
+	if !limitsGiven {
+		if p, q, ok := pl.cache.get(key); ok {
+			return p, q, nil
+		}
+	}
+	p, q, err := pl.compile(r)
+	if err == nil && !limitsGiven {
+		pl.cache.put(key, p, q)
+	}
+	return p, q, err
+}
+
+func (pl *Planner) compile(r Request) (*Plan, *algebra.Query, error) {
 	ast, err := sparql.ParseWith(r.Text, sparql.Options{Base: r.Base, Limits: r.Limits})
 	if err != nil {
 		return nil, nil, err

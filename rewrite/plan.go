@@ -87,13 +87,19 @@ type Planner struct {
 	limits    Limits
 	// keys are the column sets that determine a row, by logical table key.
 	keys map[string][][]string
+	// cache holds the plans of recent requests.
+	cache *planCache
 }
+
+// planCacheSize is how many recent requests keep their plans; enough for the
+// queries of many dashboards.
+const planCacheSize = 512
 
 // NewPlanner prepares a planner; cols are the catalog's columns as probed on the
 // source (catalog.ProbeColumns).
 func NewPlanner(cat *catalog.Catalog, cols *catalog.Columns, d source.Dialect) *Planner {
 	pl := &Planner{cat: cat, cols: cols, dialect: d, producers: producersOf(cat),
-		limits: DefaultLimits(), keys: map[string][][]string{}}
+		limits: DefaultLimits(), keys: map[string][][]string{}, cache: newPlanCache(planCacheSize)}
 	for _, tm := range cat.Maps {
 		pl.keys[tm.Table.Key()] = cols.Keys(tm.Table)
 	}
@@ -101,7 +107,10 @@ func NewPlanner(cat *catalog.Catalog, cols *catalog.Columns, d source.Dialect) *
 }
 
 // SetLimits replaces the planner's limits.
-func (pl *Planner) SetLimits(l Limits) { pl.limits = l }
+func (pl *Planner) SetLimits(l Limits) {
+	pl.limits = l
+	pl.cache = newPlanCache(planCacheSize) // plans made under other limits
+}
 
 // Dialect reports the SQL dialect the planner writes.
 func (pl *Planner) Dialect() source.Dialect { return pl.dialect }

@@ -1,0 +1,77 @@
+package rewrite
+
+import (
+	"container/list"
+	"strings"
+	"sync"
+
+	"veneer/rewrite/algebra"
+)
+
+// planCache remembers the plans of recent requests: dashboards and federation
+// engines send the same texts again and again, and a plan is immutable, so it
+// can serve every later run of its request.
+type planCache struct {
+	mu    sync.Mutex
+	max   int
+	order *list.List // front: most recently used
+	byKey map[string]*list.Element
+}
+
+type cached struct {
+	key   string
+	plan  *Plan
+	query *algebra.Query
+}
+
+func newPlanCache(max int) *planCache {
+	return &planCache{max: max, order: list.New(), byKey: map[string]*list.Element{}}
+}
+
+// requestKey identifies everything a plan depends on besides the catalog.
+func requestKey(r Request) string {
+	var b strings.Builder
+	b.WriteString(r.Base)
+	b.WriteByte(0)
+	if r.Dataset != nil {
+		for _, g := range r.Dataset.Default {
+			b.WriteString(string(g))
+			b.WriteByte(1)
+		}
+		b.WriteByte(0)
+		for _, g := range r.Dataset.Named {
+			b.WriteString(string(g))
+			b.WriteByte(1)
+		}
+	}
+	b.WriteByte(0)
+	b.WriteString(r.Text)
+	return b.String()
+}
+
+func (c *planCache) get(key string) (*Plan, *algebra.Query, bool) {
+	c.mu.Lock()
+	defer c.mu.Unlock()
+	e, ok := c.byKey[key]
+	if !ok {
+		return nil, nil, false
+	}
+	c.order.MoveToFront(e)
+	v := e.Value.(*cached)
+	return v.plan, v.query, true
+}
+
+func (c *planCache) put(key string, p *Plan, q *algebra.Query) {
+	c.mu.Lock()
+	defer c.mu.Unlock()
+	if e, ok := c.byKey[key]; ok {
+		c.order.MoveToFront(e)
+		return
+	}
+	c.byKey[key] = c.order.PushFront(&cached{key: key, plan: p, query: q})
+	for c.order.Len() > c.max {
+		last := c.order.Back()
+		c.order.Remove(last)
+		delete(c.byKey, last.Value.(*cached).key)
+	}
+}
