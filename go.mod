@@ -10,6 +10,7 @@ require (
 	github.com/prometheus/client_model v0.6.3
 	github.com/prometheus/common v0.72.0
 	go.yaml.in/yaml/v3 v3.0.6
+	golang.org/x/text v0.42.0
 	k8s.io/api v0.37.2
 	k8s.io/apimachinery v0.37.2
 	modernc.org/sqlite v1.62.0
@@ -40,7 +41,6 @@ require (
 	golang.org/x/net v0.59.0 // indirect
 	golang.org/x/sync v0.24.0 // indirect
 	golang.org/x/sys v0.49.0 // indirect
-	golang.org/x/text v0.42.0 // indirect
 	google.golang.org/protobuf v1.36.12 // indirect
 	gopkg.in/inf.v0 v0.9.1 // indirect
 	k8s.io/klog/v2 v2.140.0 // indirect

@@ -342,6 +342,9 @@ func (q *query) leftJoin(l, r *rel, expr algebra.Expr) *rel {
 	if !ok {
 		return nil
 	}
+	if out := q.sameRowOptional(l, r, expr); out != nil {
+		return out
+	}
 	d, ok := q.derived(r, modifiers{limit: -1})
 	if !ok {
 		return nil
@@ -564,4 +567,114 @@ func nullAble(alts []occurrence) []occurrence {
 		out[i] = o
 	}
 	return out
+}
+
+// sameRowOptional handles the OPTIONAL of attributes of a subject the left side
+// already reads: when the optional part reads one row of one table, joined to a
+// row of that table on the left by a whole key, that row is the left row
+// itself, and the optional variables are its columns, NULL (unbound) where the
+// optional part does not match. No join is needed. nil when the shape differs.
+func (q *query) sameRowOptional(l, r *rel, expr algebra.Expr) *rel {
+	if len(r.branches) != 1 || r.dedup || r.hasChecks() {
+		return nil
+	}
+	rb := r.branches[0]
+	if len(rb.from) != 1 {
+		return nil
+	}
+	rt, ok := rb.from[0].(*sql.Table)
+	if !ok {
+		return nil
+	}
+	out := &rel{}
+	for _, v := range append(append([]algebra.Var(nil), l.vars...), r.vars...) {
+		out.addVar(v)
+	}
+	for _, a := range l.branches {
+		nb, ok := q.sameRowBranch(a, rb, rt, expr)
+		if !ok {
+			return nil
+		}
+		out.branches = append(out.branches, nb)
+	}
+	return out
+}
+
+func (q *query) sameRowBranch(a, rb *branch, rt *sql.Table, expr algebra.Expr) (*branch, bool) {
+	for _, f := range a.from {
+		lt, ok := f.(*sql.Table)
+		if !ok || lt.Key != rt.Key {
+			continue
+		}
+		// The shared variables must equate a whole key of the two rows.
+		var joins []sql.Expr
+		for v, rbd := range rb.vars {
+			abd, shared := a.vars[v]
+			if !shared {
+				continue
+			}
+			if !abd.solid() || !rbd.solid() {
+				return nil, false
+			}
+			conds, exact, ok := q.unify(abd.alts[0], rbd.alts[0])
+			if !ok || !exact {
+				return nil, false
+			}
+			joins = append(joins, conds...)
+		}
+		probe := &branch{from: []sql.From{lt, rt}, where: joins}
+		if l1, l2, same := q.sameRowPair(probe); !same || !(l1 == lt.Alias && l2 == rt.Alias || l1 == rt.Alias && l2 == lt.Alias) {
+			continue
+		}
+		rename := func(c sql.ColumnRef) sql.ColumnRef {
+			if c.Table == rt.Alias {
+				c.Table = lt.Alias
+			}
+			return c
+		}
+		// What the optional part requires of the row, its filter included.
+		var conds []sql.Expr
+		for _, w := range rb.where {
+			conds = append(conds, sql.MapColumns(w, rename))
+		}
+		nb := a.clone()
+		added := map[algebra.Var]bool{}
+		for v, rbd := range rb.vars {
+			if _, shared := a.vars[v]; !shared {
+				nb.vars[v] = binding{alts: nullAble([]occurrence{renameOcc(rbd.alts[0], rename)}), nullable: true}
+				added[v] = true
+			}
+		}
+		if expr != nil {
+			cond, ok := q.exprSQL(nb, expr)
+			if !ok {
+				return nil, false
+			}
+			conds = append(conds, cond)
+		}
+		// A variable of the optional part is bound only when all of it matches.
+		all := sql.And(uniqueConds(conds)...)
+		for v := range added {
+			o := nb.vars[v].alts[0]
+			if all == nil || sameConds(all, o.active()) {
+				continue // its own columns being set is all the part requires
+			}
+			exprs := make([]sql.Expr, len(o.exprs))
+			for i, e := range o.exprs {
+				exprs[i] = sql.Case{When: all, Then: e}
+			}
+			o.exprs = exprs
+			if o.m.Kind == catalog.Constant {
+				o.marker = sql.Case{When: all, Then: sql.Int(1)}
+			}
+			nb.vars[v] = binding{alts: []occurrence{o}, nullable: true}
+		}
+		return nb, true
+	}
+	return nil, false
+}
+
+// sameConds compares two conditions by their printed form.
+func sameConds(a, b sql.Expr) bool {
+	return a != nil && b != nil && fmt.Sprintf("%#v", a) == fmt.Sprintf("%#v", b)
 }

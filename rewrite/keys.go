@@ -98,7 +98,8 @@ func (q *query) keyFixed(t *sql.Table, fixed func(col string) bool) bool {
 
 type equality struct {
 	l, r  sql.ColumnRef
-	param bool // r is a bound value, not a column
+	param bool // r is a bound value, not a column: value
+	value any
 }
 
 // equalities lists the column = column and column = value conjuncts of a WHERE.
@@ -123,7 +124,7 @@ func equalities(where []sql.Expr) []equality {
 				}
 			case sql.Param:
 				if lok {
-					out = append(out, equality{l: l, param: true})
+					out = append(out, equality{l: l, param: true, value: r.Value})
 				}
 			}
 		}
@@ -198,9 +199,27 @@ func renameOcc(o occurrence, f func(sql.ColumnRef) sql.ColumnRef) occurrence {
 	return o
 }
 
-// sameRowPair finds two FROM items of one table equated on a whole key.
+// sameRowPair finds two FROM items of one table equated on a whole key: to
+// each other's columns, or to the same values (a constant subject read by
+// several patterns).
 func (q *query) sameRowPair(b *branch) (string, string, bool) {
 	eqs := equalities(b.where)
+	values := map[sql.ColumnRef][]string{}
+	for _, e := range eqs {
+		if e.param {
+			values[e.l] = append(values[e.l], fmt.Sprintf("%T:%v", e.value, e.value))
+		}
+	}
+	sameValue := func(l, r sql.ColumnRef) bool {
+		for _, a := range values[l] {
+			for _, b := range values[r] {
+				if a == b {
+					return true
+				}
+			}
+		}
+		return false
+	}
 	joined := func(a1, a2, col string) bool {
 		l, r := colRef(a1, col), colRef(a2, col)
 		for _, e := range eqs {
@@ -208,7 +227,7 @@ func (q *query) sameRowPair(b *branch) (string, string, bool) {
 				return true
 			}
 		}
-		return false
+		return sameValue(l, r)
 	}
 	for i, f1 := range b.from {
 		t1, ok := f1.(*sql.Table)

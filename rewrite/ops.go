@@ -2,6 +2,7 @@ package rewrite
 
 import (
 	"veneer/catalog/rdf"
+	"veneer/catalog/source"
 	"veneer/rewrite/algebra"
 	"veneer/rewrite/sql"
 )
@@ -20,6 +21,10 @@ type Scan struct {
 	// SQL and Args are Stmt printed for the source's dialect.
 	SQL  string
 	Args []any
+	// Kinds are the type families of the result columns, as the planner knows
+	// them from the mapped tables; the source reads the values by them (the
+	// database may not know: SQLite types values, not computed columns).
+	Kinds []source.TypeKind
 	// Slots decode each row: one per variable the SQL binds.
 	Slots []Slot
 	// Checks are equalities between two ways of building one variable's term that

@@ -343,5 +343,5 @@ func (q *query) scan(r *rel, mod modifiers) (Op, error) {
 		return nil, fmt.Errorf("rewrite: cannot close a relation planned as closable")
 	}
 	text, args := sql.Print(c.stmt, q.pl.dialect)
-	return &Scan{Stmt: c.stmt, SQL: text, Args: args, Slots: c.slots, Checks: c.checks}, nil
+	return &Scan{Stmt: c.stmt, SQL: text, Args: args, Kinds: kindsOf(c.types), Slots: c.slots, Checks: c.checks}, nil
 }

@@ -315,7 +315,7 @@ func (q *query) closeRel(r *rel, mod modifiers) (*closed, bool) {
 	if mod.offset > 0 {
 		op = &mod.offset
 	}
-	if len(selects) == 1 {
+	if len(selects) == 1 && (!distinct || len(order) == 0) {
 		s := selects[0]
 		s.Distinct = distinct
 		s.Limit, s.Offset = lp, op
@@ -326,12 +326,32 @@ func (q *query) closeRel(r *rel, mod modifiers) (*closed, bool) {
 		c.stmt = s
 		return c, true
 	}
-	u := &sql.Union{All: !distinct, Selects: selects, Limit: lp, Offset: op}
-	for _, o := range order {
-		ref := sql.ColumnRef{Column: catalog.Ident{Name: fmt.Sprintf("c%d", o.col), Quoted: true}}
-		u.OrderBy = append(u.OrderBy, sql.Order{Expr: o.expr(ref), Desc: o.desc})
+	var inner sql.Stmt = &sql.Union{All: !distinct, Selects: selects}
+	if len(selects) == 1 {
+		selects[0].Distinct = true
+		inner = selects[0]
 	}
-	c.stmt = u
+	if len(order) == 0 {
+		u := inner.(*sql.Union)
+		u.Limit, u.Offset = lp, op
+		c.stmt = u
+		return c, true
+	}
+	// ORDER BY over DISTINCT or UNION may only name result columns, and an
+	// ordering that must compare by code point is an expression: it orders the
+	// rows of the statement read as a derived table instead.
+	alias := q.alias("o")
+	outer := &sql.Select{From: []sql.From{&sql.Derived{Stmt: inner, Alias: alias}}, Limit: lp, Offset: op}
+	ref := func(col int) sql.Expr {
+		return sql.ColumnRef{Table: alias, Column: catalog.Ident{Name: fmt.Sprintf("c%d", col), Quoted: true}}
+	}
+	for col := range c.types {
+		outer.Columns = append(outer.Columns, sql.Column{Expr: ref(col), Alias: fmt.Sprintf("c%d", col)})
+	}
+	for _, o := range order {
+		outer.OrderBy = append(outer.OrderBy, sql.Order{Expr: o.expr(ref(o.col)), Desc: o.desc})
+	}
+	c.stmt = outer
 	return c, true
 }
 

@@ -368,7 +368,10 @@ func (g *generator) combine(conds ...string) string {
 }
 
 // binding returns an expression over v (values of p) for BIND or a SELECT
-// expression, and whether its value is approximate.
+// expression, and whether its value is approximate. Numbers never go through
+// STR or another string function: the reference engine keeps numeric literals
+// by value and writes its own lexical forms (STR of "1.98E0"^^xsd:double is
+// "1.98" there), so the string of a number would compare its forms, not veneer.
 func (g *generator) binding(v string, p *property) (string, bool) {
 	switch p.kind {
 	case kindInteger, kindDecimal, kindDouble:

@@ -7,6 +7,8 @@ import (
 	"crypto/sha256"
 	"crypto/sha512"
 	"encoding/hex"
+	"golang.org/x/text/cases"
+	"golang.org/x/text/language"
 	"hash"
 	"net/url"
 	"regexp"
@@ -57,8 +59,8 @@ func init() {
 			return number{kind: kindInteger, small: int64(utf8.RuneCountInString(s.Lexical))}.literal(), nil
 		}},
 		"SUBSTR":         {2, 3, substrFn},
-		"UCASE":          {1, 1, caseFn(strings.ToUpper)},
-		"LCASE":          {1, 1, caseFn(strings.ToLower)},
+		"UCASE":          {1, 1, caseFn(upperCase)},
+		"LCASE":          {1, 1, caseFn(lowerCase)},
 		"STRSTARTS":      {2, 2, stringTest(strings.HasPrefix)},
 		"STRENDS":        {2, 2, stringTest(strings.HasSuffix)},
 		"CONTAINS":       {2, 2, stringTest(strings.Contains)},
@@ -268,6 +270,14 @@ func substrFn(_ *run, a []rdf.Term) (rdf.Term, error) {
 	}
 	return sameKind(s, b.String()), nil
 }
+
+// upperCase and lowerCase are fn:upper-case and fn:lower-case (XPath F&O
+// §5.4.7–8): Unicode's full case mappings, so "ß" becomes "SS", which
+// strings.ToUpper's one-to-one mapping does not do. A Caser keeps state, so
+// each call takes its own.
+func upperCase(s string) string { return cases.Upper(language.Und).String(s) }
+
+func lowerCase(s string) string { return cases.Lower(language.Und).String(s) }
 
 func caseFn(f func(string) string) func(*run, []rdf.Term) (rdf.Term, error) {
 	return func(_ *run, a []rdf.Term) (rdf.Term, error) {

@@ -303,9 +303,10 @@ func (a *avgAcc) result() (rdf.Term, bool) {
 type extremeAcc struct {
 	sign int
 	best rdf.Term
-	// failed records an error value: ORDER BY puts errors (and unbound) first,
-	// so the minimum of values with an error is that error, and MIN is unbound;
-	// MAX is not affected (§18.5.1.5–6 order the values as ORDER BY does).
+	// failed records an error value, which makes the aggregate an error: the
+	// values keep their errors (§18.5.1 ListEval), and the reference engine of
+	// the differential tests (npm oxigraph) answers MIN and MAX over a group
+	// with an unbound value as unbound.
 	failed bool
 }
 
@@ -321,7 +322,7 @@ func (e *extremeAcc) add(t rdf.Term, err error) error {
 }
 
 func (e *extremeAcc) result() (rdf.Term, bool) {
-	if e.failed && e.sign < 0 {
+	if e.failed {
 		return nil, false
 	}
 	return e.best, e.best != nil

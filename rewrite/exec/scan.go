@@ -61,7 +61,8 @@ func (s *scanIter) next() ([]rdf.Term, error) {
 			s.done = true // no triples map can answer: no SQL at all
 			return nil, nil
 		}
-		rows, err := s.r.src.Query(s.r.ctx, s.op.SQL, s.op.Args...)
+		args := append([]any{source.Kinds(s.op.Kinds)}, s.op.Args...)
+		rows, err := s.r.src.Query(s.r.ctx, s.op.SQL, args...)
 		if err != nil {
 			s.done = true
 			return nil, s.r.fail(fmt.Errorf("running the query's SQL: %w", err))

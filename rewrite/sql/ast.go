@@ -186,6 +186,8 @@ func MapColumns(e Expr, f func(ColumnRef) ColumnRef) Expr {
 		return x
 	case Collate:
 		return Collate{X: MapColumns(x.X, f)}
+	case Case:
+		return Case{When: MapColumns(x.When, f), Then: MapColumns(x.Then, f)}
 	case In:
 		list := make([]Expr, len(x.List))
 		for i, a := range x.List {
@@ -232,3 +234,10 @@ type Recursive struct {
 }
 
 func (*Recursive) from() {}
+
+// Case is CASE WHEN When THEN Then END (NULL otherwise).
+type Case struct {
+	When, Then Expr
+}
+
+func (Case) expr() {}

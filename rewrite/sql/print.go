@@ -239,6 +239,12 @@ func (p *printer) expr(e Expr) {
 		}
 		p.expr(e.R)
 		p.w(")")
+	case Case:
+		p.w("CASE WHEN ")
+		p.expr(e.When)
+		p.w(" THEN ")
+		p.expr(e.Then)
+		p.w(" END")
 	case In:
 		p.w("(")
 		p.expr(e.X)
