@@ -321,7 +321,7 @@ func (q *query) closeRel(r *rel, mod modifiers) (*closed, bool) {
 		s.Limit, s.Offset = lp, op
 		for _, o := range order {
 			// On a single SELECT, ORDER BY names the column's expression.
-			s.OrderBy = append(s.OrderBy, sql.Order{Expr: o.expr(s.Columns[o.col].Expr), Desc: o.desc})
+			s.OrderBy = append(s.OrderBy, sql.Order{Expr: o.expr(s.Columns[o.col].Expr), Desc: o.desc, NotNull: c.types[o.col].NotNull})
 		}
 		c.stmt = s
 		return c, true
@@ -349,7 +349,10 @@ func (q *query) closeRel(r *rel, mod modifiers) (*closed, bool) {
 		outer.Columns = append(outer.Columns, sql.Column{Expr: ref(col), Alias: fmt.Sprintf("c%d", col)})
 	}
 	for _, o := range order {
-		outer.OrderBy = append(outer.OrderBy, sql.Order{Expr: o.expr(ref(o.col)), Desc: o.desc})
+		// Other union branches fill a column with NULL: only one SELECT keeps
+		// its column's NOT NULL.
+		notNull := len(selects) == 1 && c.types[o.col].NotNull
+		outer.OrderBy = append(outer.OrderBy, sql.Order{Expr: o.expr(ref(o.col)), Desc: o.desc, NotNull: notNull})
 	}
 	c.stmt = outer
 	return c, true

@@ -73,10 +73,13 @@ func (*Derived) from()  {}
 func (*LeftJoin) from() {}
 
 // Order is one ORDER BY item. NULLs sort first ascending and last descending in
-// every dialect, as SPARQL puts unbound first (§15.1).
+// every dialect, as SPARQL puts unbound first (§15.1); NotNull says the value is
+// never NULL, so the placement need not be spelled out (which lets PostgreSQL
+// read a plain index in order).
 type Order struct {
-	Expr Expr
-	Desc bool
+	Expr    Expr
+	Desc    bool
+	NotNull bool
 }
 
 // Expr is an SQL expression.

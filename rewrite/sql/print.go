@@ -129,12 +129,13 @@ func (p *printer) tail(order []Order, limit, offset *int64) {
 				p.w(", ")
 			}
 			p.expr(o.Expr)
+			pgNulls := p.dialect == source.Postgres && !o.NotNull
 			switch {
-			case o.Desc && p.dialect == source.Postgres:
+			case o.Desc && pgNulls:
 				p.w(" DESC NULLS LAST")
 			case o.Desc:
 				p.w(" DESC")
-			case p.dialect == source.Postgres:
+			case pgNulls:
 				p.w(" NULLS FIRST")
 			}
 		}
