@@ -281,7 +281,11 @@ func Lexical(v any, kind source.TypeKind) string {
 		if t, ok := v.(time.Time); ok {
 			return timeLexical(t, kind)
 		}
-		if t, ok := parseSQLTime(plain(v)); ok {
+		text := plain(v)
+		if lex, ok := plainTimestamp(text, kind); ok {
+			return lex
+		}
+		if t, ok := parseSQLTime(text); ok {
 			return timeLexical(t, kind)
 		}
 	}
@@ -305,6 +309,33 @@ func plain(v any) string {
 		return x.Format(time.RFC3339Nano)
 	}
 	return fmt.Sprint(v)
+}
+
+// plainTimestamp is the fast path for the text SQLite keeps most timestamps
+// in, "YYYY-MM-DD HH:MM:SS" (or with a T): already canonical but for the T, so
+// it needs no parsing. Other forms report false.
+func plainTimestamp(s string, kind source.TypeKind) (string, bool) {
+	if kind != source.TypeTimestamp || len(s) != 19 || (s[10] != ' ' && s[10] != 'T') {
+		return "", false
+	}
+	for i := 0; i < len(s); i++ {
+		switch i {
+		case 4, 7:
+			if s[i] != '-' {
+				return "", false
+			}
+		case 13, 16:
+			if s[i] != ':' {
+				return "", false
+			}
+		case 10:
+		default:
+			if s[i] < '0' || s[i] > '9' {
+				return "", false
+			}
+		}
+	}
+	return s[:10] + "T" + s[11:], true
 }
 
 // parseSQLTime reads the text forms databases use for dates and timestamps.

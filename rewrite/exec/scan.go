@@ -132,13 +132,20 @@ type termBuilder struct {
 	b      rewrite.Builder
 	names  []string
 	values map[string]string
+	// validIRIs says the template always yields a valid absolute IRI: its text
+	// starts with a scheme and was checked at load (Template.CheckIRI), and the
+	// values are IRI-safe encoded, so no per-row check is needed.
+	validIRIs bool
 }
 
 func newTermBuilder(b rewrite.Builder) *termBuilder {
 	tb := &termBuilder{b: b}
-	if b.Map.Kind == catalog.TemplateMap {
-		tb.names = b.Map.Template.Columns()
+	if m := b.Map; m.Kind == catalog.TemplateMap {
+		tb.names = m.Template.Columns()
 		tb.values = make(map[string]string, len(tb.names))
+		parts := m.Template.Parts
+		tb.validIRIs = m.TermType == rdf.KindIRI && len(parts) > 0 && parts[0].Column == "" &&
+			rdf.IsAbsoluteIRI(parts[0].Text) && m.Template.CheckIRI() == nil
 	}
 	return tb
 }
@@ -180,6 +187,9 @@ func (tb *termBuilder) build(row []any) (rdf.Term, error) {
 	}
 	switch m.TermType {
 	case rdf.KindIRI:
+		if tb.validIRIs {
+			return rdf.IRI(lexical), nil
+		}
 		iri, err := m.MakeIRI(lexical)
 		if err != nil {
 			return nil, err
