@@ -3,6 +3,7 @@ package rewrite
 import (
 	"strconv"
 	"time"
+	"unicode/utf8"
 
 	"veneer/catalog"
 	"veneer/catalog/rdf"
@@ -107,6 +108,8 @@ func (q *query) exprSQL(b *branch, e algebra.Expr) (sql.Expr, bool) {
 			return cond, true
 		}
 		return sql.Binary{Op: "=", L: sql.Int(1), R: sql.Int(1)}, true
+	case "CONTAINS", "STRSTARTS", "STRENDS":
+		return q.strTestSQL(b, c)
 	case "IN", "NOT IN":
 		// §17.4.1.9–10: IN is the disjunction of = tests, NOT IN the conjunction
 		// of != tests, errors included.
@@ -341,4 +344,40 @@ func orderable(r *rel, v algebra.Var) bool {
 		}
 	}
 	return true
+}
+
+// strTestSQL translates CONTAINS, STRSTARTS and STRENDS of a variable bound to a
+// string column (tagged or not) and a simple literal (§17.4.3: a simple second
+// argument is compatible with any string first argument). The SQL test is by
+// code point; an empty second argument holds for every bound value.
+func (q *query) strTestSQL(b *branch, c algebra.Call) (sql.Expr, bool) {
+	if len(c.Args) != 2 {
+		return nil, false
+	}
+	v, ok := c.Args[0].(algebra.Var)
+	k, ok2 := c.Args[1].(algebra.Const)
+	if !ok || !ok2 {
+		return nil, false
+	}
+	lit, isLit := k.Term.(rdf.Literal)
+	bd, bound := b.vars[v]
+	if !isLit || lit.Datatype != rdf.XSDString || !bound || len(bd.alts) != 1 {
+		return nil, false
+	}
+	o := bd.alts[0]
+	if o.m.Kind != catalog.Column || o.m.TermType != rdf.KindLiteral || o.cols[0].Kind != source.TypeString {
+		return nil, false
+	}
+	if o.m.Datatype != "" && o.m.Datatype != rdf.XSDString {
+		return nil, false
+	}
+	if lit.Lexical == "" {
+		if a := o.active(); a != nil {
+			return a, true
+		}
+		return sql.Binary{Op: "=", L: sql.Int(1), R: sql.Int(1)}, true
+	}
+	op := map[string]string{"CONTAINS": "contains", "STRSTARTS": "starts", "STRENDS": "ends"}[c.Op]
+	n := int64(utf8.RuneCountInString(lit.Lexical))
+	return sql.StrTest{Op: op, X: o.exprs[0], Arg: sql.Param{Value: lit.Lexical}, Len: sql.Param{Value: n}}, true
 }

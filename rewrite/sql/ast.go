@@ -191,6 +191,8 @@ func MapColumns(e Expr, f func(ColumnRef) ColumnRef) Expr {
 		return Collate{X: MapColumns(x.X, f)}
 	case Case:
 		return Case{When: MapColumns(x.When, f), Then: MapColumns(x.Then, f)}
+	case StrTest:
+		return StrTest{Op: x.Op, X: MapColumns(x.X, f), Arg: MapColumns(x.Arg, f), Len: x.Len}
 	case In:
 		list := make([]Expr, len(x.List))
 		for i, a := range x.List {
@@ -244,3 +246,14 @@ type Case struct {
 }
 
 func (Case) expr() {}
+
+// StrTest is a case-sensitive substring test of string X against the string
+// Arg: Op is "contains", "starts" or "ends". Len is Arg's length in characters
+// (the planner knows it; a length function would leave a parameter's type
+// undecided). Each dialect has its own spelling.
+type StrTest struct {
+	Op          string
+	X, Arg, Len Expr
+}
+
+func (StrTest) expr() {}

@@ -240,6 +240,8 @@ func (p *printer) expr(e Expr) {
 		}
 		p.expr(e.R)
 		p.w(")")
+	case StrTest:
+		p.strTest(e)
 	case Case:
 		p.w("CASE WHEN ")
 		p.expr(e.When)
@@ -326,3 +328,87 @@ func (p *printer) ident(id catalog.Ident) {
 }
 
 func (p *printer) quote(name string) string { return p.dialect.QuoteIdent(name) }
+
+// strTest prints a code-point exact substring test.
+func (p *printer) strTest(e StrTest) {
+	x := func() { p.expr(e.X) }
+	arg := func() { p.expr(e.Arg) }
+	n := func() { p.expr(e.Len) }
+	switch p.dialect {
+	case source.Postgres:
+		switch e.Op {
+		case "contains":
+			p.w("(strpos(")
+			x()
+			p.w(", ")
+			arg()
+			p.w(") > 0)")
+		case "starts":
+			p.w("(left(")
+			x()
+			p.w(", ")
+			n()
+			p.w(") = ")
+			arg()
+			p.w(")")
+		default:
+			p.w("(right(")
+			x()
+			p.w(", ")
+			n()
+			p.w(") = ")
+			arg()
+			p.w(")")
+		}
+	case source.MySQL:
+		switch e.Op {
+		case "contains":
+			p.w("(LOCATE(BINARY ")
+			arg()
+			p.w(", ")
+			x()
+			p.w(") > 0)")
+		case "starts":
+			p.w("(LEFT(")
+			x()
+			p.w(", ")
+			n()
+			p.w(") = BINARY ")
+			arg()
+			p.w(")")
+		default:
+			p.w("(RIGHT(")
+			x()
+			p.w(", ")
+			n()
+			p.w(") = BINARY ")
+			arg()
+			p.w(")")
+		}
+	default:
+		switch e.Op {
+		case "contains":
+			p.w("(instr(")
+			x()
+			p.w(", ")
+			arg()
+			p.w(") > 0)")
+		case "starts":
+			p.w("(substr(")
+			x()
+			p.w(", 1, ")
+			n()
+			p.w(") = ")
+			arg()
+			p.w(")")
+		default:
+			p.w("(substr(")
+			x()
+			p.w(", -")
+			n()
+			p.w(") = ")
+			arg()
+			p.w(")")
+		}
+	}
+}
