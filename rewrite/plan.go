@@ -234,6 +234,9 @@ func (q *query) op(n algebra.Node, graph algebra.Item) (Op, error) {
 		}
 		return &Values{Rows: [][]rdf.Term{{}}}, nil
 	case algebra.Group:
+		if op, err := q.averages(n, graph); op != nil || err != nil {
+			return op, err
+		}
 		in, err := q.op(n.Input, graph)
 		if err != nil {
 			return nil, err
@@ -278,6 +281,48 @@ func (q *query) op(n algebra.Node, graph algebra.Item) (Op, error) {
 		return nil, &Unsupported{What: "SERVICE"}
 	}
 	return nil, &Unsupported{What: fmt.Sprintf("the algebra operator %T", n)}
+}
+
+// averages plans a grouping whose only obstacle to SQL is AVG: each AVG(x)
+// becomes SUM(x) and COUNT(x) in SQL, divided in-process with SPARQL's own
+// arithmetic (§18.5.1.4 Avg = Sum / Count, 0 for no values), which SQL's AVG
+// would round differently in each dialect. nil when that does not help.
+func (q *query) averages(n algebra.Group, graph algebra.Item) (Op, error) {
+	var aggs []algebra.AggBinding
+	type avg struct{ v, sum, count algebra.Var }
+	var avgs []avg
+	for _, a := range n.Aggs {
+		if a.Agg.Name != "AVG" {
+			aggs = append(aggs, a)
+			continue
+		}
+		x := avg{v: a.Var, sum: q.fresh(), count: q.fresh()}
+		sum, count := a.Agg, a.Agg
+		sum.Name, count.Name = "SUM", "COUNT"
+		aggs = append(aggs, algebra.AggBinding{Var: x.sum, Agg: sum}, algebra.AggBinding{Var: x.count, Agg: count})
+		avgs = append(avgs, x)
+	}
+	if len(avgs) == 0 {
+		return nil, nil
+	}
+	split := algebra.Group{Input: n.Input, Keys: n.Keys, Aggs: aggs}
+	r, mod, err := q.relation(split, graph)
+	if r == nil || err != nil {
+		return nil, err
+	}
+	var op Op
+	if op, err = q.scan(r, mod); err != nil {
+		return nil, err
+	}
+	zero := algebra.Const{Term: rdf.NewTyped("0", rdf.XSDInteger)}
+	for _, x := range avgs {
+		op = &Extend{Input: op, Var: x.v, Expr: algebra.Call{Op: "IF", Args: []algebra.Expr{
+			algebra.Call{Op: "=", Args: []algebra.Expr{x.count, zero}},
+			zero,
+			algebra.Call{Op: "/", Args: []algebra.Expr{x.sum, x.count}},
+		}}}
+	}
+	return op, nil
 }
 
 // carriesGraph reports whether every solution of n comes from triple patterns

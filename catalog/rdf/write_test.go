@@ -36,33 +36,6 @@ func roundTrip(t *testing.T, name string, ts []Triple, prefixes []Prefix) {
 	}
 }
 
-// TestTurtleRoundTripW3C writes the graph of every Turtle evaluation test of
-// the W3C suite (rdf-turtle, TestTurtleEval entries) with the document's own
-// prefixes, and reads it back.
-func TestTurtleRoundTripW3C(t *testing.T) {
-	dir := filepath.Join(w3cDir(t), "rdf-tests", "rdf", "rdf11", "rdf-turtle")
-	n := 0
-	for _, mt := range readManifest(t, filepath.Join(dir, "manifest.ttl")) {
-		if mt.typ != "TestTurtleEval" {
-			continue
-		}
-		src, err := os.ReadFile(mt.action)
-		if err != nil {
-			t.Fatal(err)
-		}
-		doc, err := ParseTurtle(mt.action, src, mt.base)
-		if err != nil {
-			t.Fatalf("%s: %v", mt.id, err)
-		}
-		roundTrip(t, mt.id, doc.Triples(), doc.Prefixes)
-		n++
-	}
-	if n == 0 {
-		t.Fatal("no TestTurtleEval entries in the manifest")
-	}
-	t.Logf("%d graphs written and read back", n)
-}
-
 func TestTurtleRoundTripAwkwardTerms(t *testing.T) {
 	// Local names that need escapes or cannot be prefixed names at all, numbers
 	// that are not in Turtle's bare forms, and blank node labels that are not

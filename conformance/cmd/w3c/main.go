@@ -29,7 +29,10 @@ import (
 var suites = map[string]conformance.Suite{}
 
 func init() {
-	for _, s := range []conformance.Suite{conformance.RDB2RDF(), conformance.SPARQLSyntax(), conformance.SPARQLEval()} {
+	for _, s := range []conformance.Suite{
+		conformance.RDB2RDF(), conformance.SPARQLSyntax(), conformance.SPARQLEval(),
+		conformance.Turtle(), conformance.NTriples(), conformance.NQuads(),
+	} {
 		suites[s.Name()] = s
 	}
 }
