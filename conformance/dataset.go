@@ -41,11 +41,10 @@ func (e *StageError) Unwrap() error { return e.Err }
 // mapping defines, as the two dataset queries give them, duplicates included.
 // A nil graph stands for the default graph.
 func MappedDataset(ctx context.Context, src source.Source, cat *catalog.Catalog) ([]rdf.Quad, error) {
-	cols, err := catalog.ProbeColumns(ctx, src, cat)
+	eng, err := newEngine(ctx, src, cat)
 	if err != nil {
-		return nil, &StageError{Stage: "probing the mapping's columns", Err: err}
+		return nil, err
 	}
-	eng := &exec.Engine{Planner: rewrite.NewPlanner(cat, cols, src.Dialect()), Source: src}
 	var quads []rdf.Quad
 	for _, q := range []string{defaultGraphQuery, namedGraphsQuery} {
 		rows, err := solutions(ctx, eng, q)
@@ -61,6 +60,17 @@ func MappedDataset(ctx context.Context, src source.Source, cat *catalog.Catalog)
 		}
 	}
 	return quads, nil
+}
+
+// newEngine builds veneer's query engine over cat on src, as veneer serve
+// does: the mapping's columns probed on the live schema, the planner over
+// them, the executor.
+func newEngine(ctx context.Context, src source.Source, cat *catalog.Catalog) (*exec.Engine, error) {
+	cols, err := catalog.ProbeColumns(ctx, src, cat)
+	if err != nil {
+		return nil, &StageError{Stage: "probing the mapping's columns", Err: err}
+	}
+	return &exec.Engine{Planner: rewrite.NewPlanner(cat, cols, src.Dialect()), Source: src}, nil
 }
 
 // solutions runs a query whose variables must all be bound in every solution.

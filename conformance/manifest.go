@@ -5,6 +5,7 @@ import (
 	"net/url"
 	"os"
 	"path/filepath"
+	"strings"
 
 	"veneer/catalog/rdf"
 )
@@ -31,11 +32,10 @@ func ReadManifest(path string) (*Manifest, error) {
 	if err != nil {
 		return nil, fmt.Errorf("reading the manifest: %w", err)
 	}
-	abs, err := filepath.Abs(path)
+	base, err := fileIRI(path)
 	if err != nil {
 		return nil, fmt.Errorf("reading the manifest: %w", err)
 	}
-	base := (&url.URL{Scheme: "file", Path: filepath.ToSlash(abs)}).String()
 	doc, err := rdf.ParseTurtle(path, src, base)
 	if err != nil {
 		return nil, fmt.Errorf("reading the manifest: %w", err)
@@ -198,4 +198,33 @@ func (m *Manifest) List(head rdf.Term) ([]rdf.Term, error) {
 		n = rest
 	}
 	return out, nil
+}
+
+// Entries returns the tests the manifest lists, in order: the members of the
+// mf:entries collection of its one mf:Manifest, which it returns too.
+func (m *Manifest) Entries() (rdf.Term, []rdf.Term, error) {
+	manifests := m.OfType(mfManifest)
+	if len(manifests) != 1 {
+		return nil, nil, fmt.Errorf("%s: %d resources of type mf:Manifest, want one", m.Path, len(manifests))
+	}
+	head, err := m.Object(manifests[0], mfEntries)
+	if err != nil {
+		return nil, nil, err
+	}
+	if head == nil {
+		return nil, nil, m.Errorf(manifests[0], "has no mf:entries")
+	}
+	entries, err := m.List(head)
+	return manifests[0], entries, err
+}
+
+// Name returns a test's name: the fragment of its IRI, which the SPARQL and
+// RDF suites' manifests give every test.
+func (m *Manifest) Name(test rdf.Term) (string, error) {
+	iri, ok := test.(rdf.IRI)
+	_, name, hasName := strings.Cut(string(iri), "#")
+	if !ok || !hasName || name == "" {
+		return "", m.Errorf(test, "is not a test IRI with a name after '#'")
+	}
+	return name, nil
 }

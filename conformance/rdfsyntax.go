@@ -71,22 +71,11 @@ func (s rdfSyntaxSuite) Load(dir string) ([]*Group, error) {
 	if err != nil {
 		return nil, err
 	}
-	manifests := m.OfType(mfManifest)
-	if len(manifests) != 1 {
-		return nil, fmt.Errorf("%s: %d resources of type mf:Manifest, want one", m.Path, len(manifests))
-	}
-	head, err := m.Object(manifests[0], mfEntries)
+	manifest, entries, err := m.Entries()
 	if err != nil {
 		return nil, err
 	}
-	if head == nil {
-		return nil, m.Errorf(manifests[0], "has no mf:entries")
-	}
-	entries, err := m.List(head)
-	if err != nil {
-		return nil, err
-	}
-	assumed, err := m.Object(manifests[0], mfAssumedBase)
+	assumed, err := m.Object(manifest, mfAssumedBase)
 	if err != nil {
 		return nil, err
 	}
@@ -105,10 +94,9 @@ func (s rdfSyntaxSuite) Load(dir string) ([]*Group, error) {
 // readTest reads one entry of the manifest; base is the manifest's
 // mf:assumedTestBase, or empty.
 func (s rdfSyntaxSuite) readTest(m *Manifest, entry rdf.Term, base rdf.IRI) (Test, error) {
-	iri, ok := entry.(rdf.IRI)
-	_, name, hasName := strings.Cut(string(iri), "#")
-	if !ok || !hasName || name == "" {
-		return Test{}, m.Errorf(entry, "is not a test IRI with a name after '#'")
+	name, err := m.Name(entry)
+	if err != nil {
+		return Test{}, err
 	}
 	ty, err := m.Object(entry, rdf.RDFType)
 	if err != nil {

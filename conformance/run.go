@@ -21,6 +21,11 @@ type Options struct {
 	Server *Server
 	// Skips are the tests to leave out; nil leaves none out.
 	Skips *SkipList
+	// Known are the tests expected to fail, each with the capability veneer
+	// lacks for it. Such a test still counts as failed, with the reason in
+	// Result.Known; one that passes fails too, so that the list cannot go
+	// stale. Nil expects no failure.
+	Known *SkipList
 	// Timeout bounds each test and each set-up; zero means DefaultTimeout.
 	Timeout time.Duration
 }
@@ -75,7 +80,7 @@ func Run(ctx context.Context, s Suite, opt Options, each func(Result)) (*Report,
 			ids[t.ID] = true
 		}
 	}
-	rep.Warnings = opt.Skips.unknown(ids)
+	rep.Warnings = append(opt.Skips.unknown(ids), opt.Known.unknown(ids)...)
 	record := func(r Result) {
 		rep.Results = append(rep.Results, r)
 		switch r.Outcome {
@@ -128,9 +133,27 @@ func runGroup(ctx context.Context, g *Group, db string, opt Options, rep *Report
 		case setupErr != nil:
 			record(Result{ID: t.ID, Group: g.Name, Outcome: Failed, Reason: "setting up " + g.Name + ": " + oneLine(setupErr.Error())})
 		default:
-			record(runTest(ctx, g, t, sc, opt.Timeout))
+			r := runTest(ctx, g, t, sc, opt.Timeout)
+			if reason, known := opt.Known.Reason(t.ID, db); known {
+				r = expectFailure(r, reason, opt.Known.name)
+			}
+			record(r)
 		}
 	}
+}
+
+// expectFailure marks the result of a test the known failures list (the file
+// list) has, for reason.
+func expectFailure(r Result, reason, list string) Result {
+	switch r.Outcome {
+	case Failed:
+		r.Known = reason
+		r.Reason = "known failure (" + reason + "): " + r.Reason
+	case Passed:
+		r.Outcome, r.Details = Failed, nil
+		r.Reason = "passes now: remove it from " + list + " (" + reason + ")"
+	}
+	return r
 }
 
 // setUp makes the group's database and runs its Setup.

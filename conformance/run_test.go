@@ -141,3 +141,37 @@ func TestRunSetUp(t *testing.T) {
 		t.Errorf("set-up failure reason %q", r.Reason)
 	}
 }
+
+// A test the known failures list has fails with the list's reason in Known,
+// and fails too when it passes, so that the list cannot go stale.
+func TestRunKnown(t *testing.T) {
+	suite := fakeSuite{groups: []*Group{{
+		Name: "g1",
+		Tests: []Test{
+			{ID: "fails", Run: func(context.Context, *Scratch) error { return errors.New("no answer") }},
+			{ID: "passes", Run: func(context.Context, *Scratch) error { return nil }},
+			{ID: "other", Run: func(context.Context, *Scratch) error { return errors.New("broken") }},
+		},
+	}}}
+	known, err := ParseSkipList("known.txt", []byte("fails  no property paths yet\npasses  no federation yet\n"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	rep, err := Run(context.Background(), suite, Options{Known: known}, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if got, want := rep.Summary(), "fake none: 0 passed, 3 failed, 0 skipped"; got != want {
+		t.Errorf("Summary() = %q, want %q", got, want)
+	}
+	want := map[string]struct{ reason, known string }{
+		"fails":  {"known failure (no property paths yet): no answer", "no property paths yet"},
+		"passes": {"passes now: remove it from known.txt (no federation yet)", ""},
+		"other":  {"broken", ""},
+	}
+	for _, r := range rep.Results {
+		if w := want[r.ID]; r.Reason != w.reason || r.Known != w.known {
+			t.Errorf("%s: reason %q, known %q; want %q, %q", r.ID, r.Reason, r.Known, w.reason, w.known)
+		}
+	}
+}

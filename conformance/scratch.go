@@ -252,6 +252,9 @@ type Scratch struct {
 	db   *sql.DB
 	drop func() error
 	src  source.Source
+	// closers stop what the set-up started over the database (a server),
+	// before Close closes the source.
+	closers []func() error
 }
 
 // Load runs an SQL script, translated for the dialect (TranslateScript), one
@@ -281,9 +284,16 @@ func (s *Scratch) Source(ctx context.Context) (source.Source, error) {
 	return s.src, nil
 }
 
-// Close closes the connections and removes the database.
+// atClose has Close call f first, for something that uses the database.
+func (s *Scratch) atClose(f func() error) { s.closers = append(s.closers, f) }
+
+// Close stops what was started over the database, closes the connections and
+// removes the database.
 func (s *Scratch) Close() error {
 	var errs []error
+	for _, f := range s.closers {
+		errs = append(errs, f())
+	}
 	if s.src != nil {
 		errs = append(errs, s.src.Close())
 	}

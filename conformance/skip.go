@@ -10,17 +10,20 @@ import (
 	"strings"
 )
 
-// skipFiles are the skip lists, one per suite: testdata/skip-SUITE.txt.
+// listFiles are the lists of tests, at most two per suite:
+// testdata/skip-SUITE.txt and testdata/known-SUITE.txt.
 //
 //go:embed testdata
-var skipFiles embed.FS
+var listFiles embed.FS
 
-// SkipList names the tests a run leaves out, each with the reason. Its text
-// form has one entry a line: the test identifier, optionally followed by
-// "@DB" to restrict the entry to one database (sqlite, postgres, mysql), then
-// white space and the reason. Blank lines and lines starting with '#' are
-// ignored.
+// SkipList names tests, each with a reason: the tests a run leaves out, or
+// those it expects to fail (Options.Known). Its text form has one entry a
+// line: the test identifier, optionally followed by "@DB" to restrict the
+// entry to one database (sqlite, postgres, mysql), then white space and the
+// reason. Blank lines and lines starting with '#' are ignored.
 type SkipList struct {
+	// name is the list's file, for messages.
+	name    string
 	entries []skipEntry
 }
 
@@ -34,7 +37,7 @@ var knownDBs = map[string]bool{"sqlite": true, "postgres": true, "mysql": true, 
 
 // ParseSkipList reads a skip list; name is used in errors, which give the line.
 func ParseSkipList(name string, src []byte) (*SkipList, error) {
-	l := &SkipList{}
+	l := &SkipList{name: name}
 	seen := map[string]int{}
 	sc := bufio.NewScanner(bytes.NewReader(src))
 	for n := 1; sc.Scan(); n++ {
@@ -70,11 +73,19 @@ func ParseSkipList(name string, src []byte) (*SkipList, error) {
 
 // SkipListFor returns the skip list of a suite, testdata/skip-SUITE.txt, built
 // into the program; a suite without a file skips nothing.
-func SkipListFor(suite string) (*SkipList, error) {
-	name := "testdata/skip-" + suite + ".txt"
-	src, err := skipFiles.ReadFile(name)
+func SkipListFor(suite string) (*SkipList, error) { return listFor("skip", suite) }
+
+// KnownFailuresFor returns the tests of a suite that are expected to fail,
+// testdata/known-SUITE.txt, built into the program, each with the capability
+// veneer lacks for it; a suite without a file expects no failure.
+func KnownFailuresFor(suite string) (*SkipList, error) { return listFor("known", suite) }
+
+// listFor reads testdata/KIND-SUITE.txt.
+func listFor(kind, suite string) (*SkipList, error) {
+	name := "testdata/" + kind + "-" + suite + ".txt"
+	src, err := listFiles.ReadFile(name)
 	if errors.Is(err, fs.ErrNotExist) {
-		return &SkipList{}, nil
+		return &SkipList{name: name}, nil
 	}
 	if err != nil {
 		return nil, err
@@ -110,7 +121,7 @@ func (l *SkipList) unknown(ids map[string]bool) []string {
 	var out []string
 	for _, e := range l.entries {
 		if !ids[e.id] {
-			out = append(out, fmt.Sprintf("skip list line %d names %s, which the suite does not have", e.line, e.id))
+			out = append(out, fmt.Sprintf("%s line %d names %s, which the suite does not have", l.name, e.line, e.id))
 		}
 	}
 	return out

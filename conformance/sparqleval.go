@@ -4,7 +4,6 @@ import (
 	"context"
 	"errors"
 	"fmt"
-	"log/slog"
 	"net/http"
 	"net/http/httptest"
 	"net/url"
@@ -15,16 +14,11 @@ import (
 	"strings"
 	"time"
 
-	"github.com/prometheus/client_golang/prometheus"
-
-	"veneer/catalog"
 	"veneer/catalog/r2rml"
 	"veneer/catalog/rdf"
-	"veneer/rewrite"
 	"veneer/rewrite/algebra"
 	"veneer/rewrite/exec"
 	"veneer/rewrite/sparql"
-	"veneer/server"
 )
 
 // The SPARQL evaluation suite. Its tests are the mf:QueryEvaluationTest
@@ -417,8 +411,7 @@ func (g *evalGroup) name(first *evalCase) string {
 }
 
 // setup stores the dataset in triple tables on the scratch database and
-// builds the engine over the generated mapping, as veneer serve does
-// (catalog.ProbeColumns, rewrite.NewPlanner, exec.Engine).
+// builds the engine over the generated mapping, as veneer serve does.
 func (g *evalGroup) setup(ctx context.Context, sc *Scratch) error {
 	tables := newTripleTables()
 	for i, l := range g.loads {
@@ -453,12 +446,8 @@ func (g *evalGroup) setup(ctx context.Context, sc *Scratch) error {
 	if err != nil {
 		return err
 	}
-	cols, err := catalog.ProbeColumns(ctx, src, cat)
-	if err != nil {
-		return &StageError{Stage: "probing the mapping's columns", Err: err}
-	}
-	g.engine = &exec.Engine{Planner: rewrite.NewPlanner(cat, cols, src.Dialect()), Source: src}
-	return nil
+	g.engine, err = newEngine(ctx, src, cat)
+	return err
 }
 
 // guarded runs f with a deadline. A test that does not return within stopGrace
@@ -637,7 +626,7 @@ func engineAnswer(ctx context.Context, e *exec.Engine, text string) (*answer, er
 // query as the body), and reads the answer: SPARQL JSON results, or
 // N-Triples for a graph.
 func httpAnswer(ctx context.Context, e *exec.Engine, text string, form algebra.Form) (*answer, error) {
-	srv, err := server.New(server.DefaultConfig(), server.FromExec(e), slog.New(slog.DiscardHandler), prometheus.NewRegistry(), prometheus.NewRegistry())
+	srv, err := newServer(e)
 	if err != nil {
 		return nil, err
 	}

@@ -3,7 +3,6 @@ package conformance
 import (
 	"context"
 	"fmt"
-	"net/url"
 	"os"
 	"path/filepath"
 	"strings"
@@ -67,18 +66,7 @@ func loadSyntaxDir(root, d string) (*Group, error) {
 	if err != nil {
 		return nil, err
 	}
-	manifests := m.OfType(mfManifest)
-	if len(manifests) != 1 {
-		return nil, fmt.Errorf("%s: %d resources of type mf:Manifest, want one", m.Path, len(manifests))
-	}
-	head, err := m.Object(manifests[0], mfEntries)
-	if err != nil {
-		return nil, err
-	}
-	if head == nil {
-		return nil, m.Errorf(manifests[0], "has no mf:entries")
-	}
-	entries, err := m.List(head)
+	_, entries, err := m.Entries()
 	if err != nil {
 		return nil, err
 	}
@@ -95,10 +83,9 @@ func loadSyntaxDir(root, d string) (*Group, error) {
 
 // readSyntaxTest reads one entry of the manifest of directory d.
 func readSyntaxTest(m *Manifest, d string, entry rdf.Term) (Test, error) {
-	iri, ok := entry.(rdf.IRI)
-	_, name, hasName := strings.Cut(string(iri), "#")
-	if !ok || !hasName || name == "" {
-		return Test{}, m.Errorf(entry, "is not a test IRI with a name after '#'")
+	name, err := m.Name(entry)
+	if err != nil {
+		return Test{}, err
 	}
 	ty, err := m.Object(entry, rdf.RDFType)
 	if err != nil {
@@ -125,11 +112,10 @@ func checkQueryFile(path, kind string) error {
 	if err != nil {
 		return fmt.Errorf("reading the query: %w", err)
 	}
-	abs, err := filepath.Abs(path)
+	base, err := fileIRI(path)
 	if err != nil {
 		return fmt.Errorf("reading the query: %w", err)
 	}
-	base := (&url.URL{Scheme: "file", Path: filepath.ToSlash(abs)}).String()
 	q, err := sparql.ParseBase(string(src), base)
 	if err == nil {
 		_, err = algebra.Translate(q)

@@ -81,6 +81,9 @@ type Result struct {
 	Reason string
 	// Details are further lines about a failure (such as the quads that differ).
 	Details []string
+	// Known, for a failure, is the reason the run's known failures list
+	// (Options.Known) gives for it: the failure was expected.
+	Known string
 }
 
 // skipError is the error Skip makes.

@@ -56,13 +56,13 @@ func benchPlanner(b *testing.B, schema []string, mapping string) *rewrite.Planne
 
 func benchCompile(b *testing.B, pl *rewrite.Planner, query string) {
 	b.Helper()
-	if _, err := pl.Compile(query); err != nil {
+	if _, err := pl.CompileFresh(query); err != nil {
 		b.Fatalf("%v\n%s", err, query)
 	}
 	b.ReportAllocs()
 	b.ResetTimer()
 	for range b.N {
-		if _, err := pl.Compile(query); err != nil {
+		if _, err := pl.CompileFresh(query); err != nil {
 			b.Fatal(err)
 		}
 	}

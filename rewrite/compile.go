@@ -42,6 +42,13 @@ func (pl *Planner) CompileRequest(r Request) (*Plan, *algebra.Query, error) {
 	return p, q, err
 }
 
+// CompileFresh compiles text without the plan cache: the cost a request pays
+// the first time it is seen, which benchmarks measure.
+func (pl *Planner) CompileFresh(text string) (*Plan, error) {
+	p, _, err := pl.compile(Request{Text: text})
+	return p, err
+}
+
 func (pl *Planner) compile(r Request) (*Plan, *algebra.Query, error) {
 	ast, err := sparql.ParseWith(r.Text, sparql.Options{Base: r.Base, Limits: r.Limits})
 	if err != nil {
