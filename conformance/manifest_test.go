@@ -6,24 +6,8 @@ import (
 	"testing"
 
 	"veneer/catalog/rdf"
+	"veneer/conformance/w3cdir"
 )
-
-// w3cDir returns the W3C suites checkout: $VENEER_W3C, or ../../shared/w3c
-// from this package's directory. Without it the test skips, or in CI fails.
-func w3cDir(t *testing.T) string {
-	t.Helper()
-	dir := os.Getenv("VENEER_W3C")
-	if dir == "" {
-		dir = filepath.Join("..", "..", "shared", "w3c")
-	}
-	if _, err := os.Stat(dir); err != nil {
-		if os.Getenv("CI") == "true" {
-			t.Fatalf("W3C suites not found at %s (set VENEER_W3C): %v", dir, err)
-		}
-		t.Skipf("W3C suites not found at %s (set VENEER_W3C): %v", dir, err)
-	}
-	return dir
-}
 
 const mfNS = "http://www.w3.org/2001/sw/DataAccess/tests/test-manifest#"
 
@@ -32,7 +16,7 @@ const mfNS = "http://www.w3.org/2001/sw/DataAccess/tests/test-manifest#"
 // a query file by IRI: reading it exercises List and File as the SPARQL
 // suites will use them.
 func TestManifestEntries(t *testing.T) {
-	path := filepath.Join(w3cDir(t), "rdf-tests", "sparql", "sparql11", "syntax-query", "manifest.ttl")
+	path := filepath.Join(w3cdir.ForTest(t), "rdf-tests", "sparql", "sparql11", "syntax-query", "manifest.ttl")
 	m, err := ReadManifest(path)
 	if err != nil {
 		t.Fatal(err)

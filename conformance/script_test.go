@@ -8,6 +8,7 @@ import (
 	"testing"
 
 	"veneer/catalog/source"
+	"veneer/conformance/w3cdir"
 )
 
 // The inputs are shaped like the statements of the RDB2RDF suite's create.sql
@@ -138,7 +139,7 @@ func TestTranslateScriptErrors(t *testing.T) {
 // Every create.sql of the RDB2RDF suite (rdb2rdf-tests D000…D025) translates
 // for every dialect; whether the database then accepts it is TestRDB2RDF's part.
 func TestTranslateSuiteScripts(t *testing.T) {
-	files, err := filepath.Glob(filepath.Join(w3cDir(t), "rdb2rdf-tests", "D*", "create.sql"))
+	files, err := filepath.Glob(filepath.Join(w3cdir.ForTest(t), "rdb2rdf-tests", "D*", "create.sql"))
 	if err != nil || len(files) == 0 {
 		t.Fatalf("no create.sql files (%v)", err)
 	}

@@ -1,7 +1,6 @@
 package conformance
 
 import (
-	"bufio"
 	"context"
 	"errors"
 	"os"
@@ -14,49 +13,16 @@ import (
 	"veneer/catalog/r2rml"
 	"veneer/catalog/rdf"
 	"veneer/catalog/source"
+	"veneer/conformance/w3cdir"
 )
-
-// floorFile records, per database, how many sparql-eval tests passed when it
-// was last raised: TestSPARQLEval fails when fewer pass, so that a change
-// that breaks passing tests shows, while tests that still fail (the engine is
-// being completed) do not fail the build.
-const floorFile = "testdata/sparql-eval-floor.txt"
-
-// readFloors reads floorFile: lines "DB COUNT"; '#' starts a comment.
-func readFloors(t *testing.T) map[string]int {
-	t.Helper()
-	f, err := os.Open(floorFile)
-	if err != nil {
-		t.Fatal(err)
-	}
-	defer f.Close()
-	floors := map[string]int{}
-	sc := bufio.NewScanner(f)
-	for n := 1; sc.Scan(); n++ {
-		line := strings.TrimSpace(sc.Text())
-		if line == "" || strings.HasPrefix(line, "#") {
-			continue
-		}
-		db, count, ok := strings.Cut(line, " ")
-		v, err := strconv.Atoi(strings.TrimSpace(count))
-		if !ok || err != nil || !knownDBs[db] {
-			t.Fatalf("%s:%d: %q is not \"DB COUNT\"", floorFile, n, line)
-		}
-		floors[db] = v
-	}
-	if err := sc.Err(); err != nil {
-		t.Fatal(err)
-	}
-	return floors
-}
 
 // TestSPARQLEval runs the W3C SPARQL query evaluation tests (rdf-tests
 // sparql11 query folders and approved sparql10 evaluation tests, as the
 // manifests list them) on each database and fails when fewer pass than
-// floorFile records. Failures are logged with their reasons.
+// testdata/sparql-eval-floor.txt records. Failures are logged with their
+// reasons.
 func TestSPARQLEval(t *testing.T) {
-	dir := w3cDir(t)
-	floors := readFloors(t)
+	dir := w3cdir.ForTest(t)
 	skips, err := SkipListFor("sparql-eval")
 	if err != nil {
 		t.Fatal(err)
@@ -76,14 +42,11 @@ func TestSPARQLEval(t *testing.T) {
 			for _, w := range rep.Warnings {
 				t.Error(w)
 			}
-			floor, ok := floors[d.String()]
-			if !ok {
-				t.Fatalf("%s has no floor for %s", floorFile, d)
-			}
-			if rep.Passed < floor {
-				t.Errorf("%s: fewer passed than the %d recorded in %s", rep.Summary(), floor, floorFile)
+			const floorFile = "sparql-eval-floor.txt"
+			if floor := passFloor(t, floorFile, d.String()); rep.Passed < floor {
+				t.Errorf("%s: fewer passed than the %d recorded in testdata/%s", rep.Summary(), floor, floorFile)
 			} else if rep.Passed > floor {
-				t.Logf("%d passed, more than the floor of %d: raise it in %s", rep.Passed, floor, floorFile)
+				t.Logf("%d passed, more than the floor of %d: raise it in testdata/%s", rep.Passed, floor, floorFile)
 			}
 			t.Log(rep.Summary())
 		})
@@ -95,7 +58,7 @@ func TestSPARQLEval(t *testing.T) {
 // entries come from both versions, carry their files, and that tests of the
 // SPARQL 1.0 suite without dawgt:Approved are skipped.
 func TestSPARQLEvalLoad(t *testing.T) {
-	groups, err := SPARQLEval().Load(w3cDir(t))
+	groups, err := SPARQLEval().Load(w3cdir.ForTest(t))
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -123,7 +86,7 @@ func TestSPARQLEvalLoad(t *testing.T) {
 // Expected results in each format the suite uses, read from the suite's own
 // files; the values checked are the files' (named beside each case).
 func TestReadAnswer(t *testing.T) {
-	root := filepath.Join(w3cDir(t), "rdf-tests", "sparql")
+	root := filepath.Join(w3cdir.ForTest(t), "rdf-tests", "sparql")
 	yes, no := true, false
 	tests := []struct {
 		file    string
@@ -312,7 +275,7 @@ type rdfLoad struct {
 // The datasets are windFarm in the default graph and in a named graph, and
 // some of the suite's data files with many kinds of literals.
 func TestTripleTablesRoundTrip(t *testing.T) {
-	root := filepath.Join(w3cDir(t), "rdf-tests", "sparql")
+	root := filepath.Join(w3cdir.ForTest(t), "rdf-tests", "sparql")
 	g := rdf.IRI("http://example.com/graph/inspections")
 	type dataset struct {
 		name  string

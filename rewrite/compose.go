@@ -579,28 +579,51 @@ func (q *query) sameRowOptional(l, r *rel, expr algebra.Expr) *rel {
 		return nil
 	}
 	rb := r.branches[0]
-	if len(rb.from) != 1 {
-		return nil
-	}
-	rt, ok := rb.from[0].(*sql.Table)
-	if !ok {
-		return nil
-	}
-	out := &rel{}
-	for _, v := range append(append([]algebra.Var(nil), l.vars...), r.vars...) {
-		out.addVar(v)
-	}
-	for _, a := range l.branches {
-		nb, ok := q.sameRowBranch(a, rb, rt, expr)
+	var tables []*sql.Table
+	for _, f := range rb.from {
+		t, ok := f.(*sql.Table)
 		if !ok {
 			return nil
 		}
-		out.branches = append(out.branches, nb)
+		tables = append(tables, t)
 	}
-	return out
+	if len(tables) == 0 || len(tables) > 2 {
+		return nil
+	}
+	for i, rt := range tables {
+		// rt may be the left row; the other table, if any, is left-joined to it.
+		var extra *sql.Table
+		if len(tables) == 2 {
+			extra = tables[1-i]
+		}
+		out := &rel{}
+		for _, v := range append(append([]algebra.Var(nil), l.vars...), r.vars...) {
+			out.addVar(v)
+		}
+		for _, a := range l.branches {
+			nb, ok := q.sameRowBranch(a, rb, rt, extra, expr)
+			if !ok {
+				out = nil
+				break
+			}
+			out.branches = append(out.branches, nb)
+		}
+		if out != nil {
+			return out
+		}
+	}
+	return nil
 }
 
-func (q *query) sameRowBranch(a, rb *branch, rt *sql.Table, expr algebra.Expr) (*branch, bool) {
+func (q *query) sameRowBranch(a, rb *branch, rt, extra *sql.Table, expr algebra.Expr) (*branch, bool) {
+	var matched sql.Expr // with extra: the condition that its row was found
+	if extra != nil {
+		keys := q.pl.keys[extra.Key]
+		if len(keys) == 0 {
+			return nil, false
+		}
+		matched = sql.IsNull{X: colRef(extra.Alias, keys[0][0]), Not: true}
+	}
 	for _, f := range a.from {
 		lt, ok := f.(*sql.Table)
 		if !ok || lt.Key != rt.Key {
@@ -652,8 +675,30 @@ func (q *query) sameRowBranch(a, rb *branch, rt *sql.Table, expr algebra.Expr) (
 			}
 			conds = append(conds, cond)
 		}
-		// A variable of the optional part is bound only when all of it matches.
 		all := sql.And(uniqueConds(conds)...)
+		if extra != nil {
+			// The other table joins the left row on what the optional part
+			// requires; a variable read from the left row alone is bound only
+			// when that join found a row.
+			nb.from = append(nb.from, &sql.LeftJoin{Right: extra, On: all})
+			for v := range added {
+				o := nb.vars[v].alts[0]
+				if readsTable(o, extra.Alias) {
+					continue // NULL through the outer join when nothing matched
+				}
+				exprs := make([]sql.Expr, len(o.exprs))
+				for i, e := range o.exprs {
+					exprs[i] = sql.Case{When: matched, Then: e}
+				}
+				o.exprs = exprs
+				if o.m.Kind == catalog.Constant {
+					o.marker = sql.Case{When: matched, Then: sql.Int(1)}
+				}
+				nb.vars[v] = binding{alts: []occurrence{o}, nullable: true}
+			}
+			return nb, true
+		}
+		// A variable of the optional part is bound only when all of it matches.
 		for v := range added {
 			o := nb.vars[v].alts[0]
 			if all == nil || sameConds(all, o.active()) {
@@ -677,4 +722,19 @@ func (q *query) sameRowBranch(a, rb *branch, rt *sql.Table, expr algebra.Expr) (
 // sameConds compares two conditions by their printed form.
 func sameConds(a, b sql.Expr) bool {
 	return a != nil && b != nil && fmt.Sprintf("%#v", a) == fmt.Sprintf("%#v", b)
+}
+
+// readsTable reports whether an occurrence reads a column of the FROM alias.
+func readsTable(o occurrence, alias string) bool {
+	found := false
+	for _, e := range append(append([]sql.Expr(nil), o.exprs...), o.marker) {
+		if e == nil {
+			continue
+		}
+		sql.MapColumns(e, func(c sql.ColumnRef) sql.ColumnRef {
+			found = found || c.Table == alias
+			return c
+		})
+	}
+	return found
 }

@@ -31,7 +31,7 @@ var suites = map[string]conformance.Suite{}
 func init() {
 	for _, s := range []conformance.Suite{
 		conformance.RDB2RDF(), conformance.SPARQLSyntax(), conformance.SPARQLEval(),
-		conformance.Turtle(), conformance.NTriples(), conformance.NQuads(),
+		conformance.Turtle(), conformance.NTriples(), conformance.NQuads(), conformance.Protocol(),
 	} {
 		suites[s.Name()] = s
 	}
@@ -126,11 +126,13 @@ func parseArgs(ctx context.Context, args []string, stderr io.Writer) (conformanc
 		fs.Usage()
 		return nil, opt, false, errUsage
 	}
-	skips, err := conformance.SkipListFor(suite.Name())
-	if err != nil {
+	var err error
+	if opt.Skips, err = conformance.SkipListFor(suite.Name()); err != nil {
 		return nil, opt, false, err
 	}
-	opt.Skips = skips
+	if opt.Known, err = conformance.KnownFailuresFor(suite.Name()); err != nil {
+		return nil, opt, false, err
+	}
 	if suite.NeedsDatabase() {
 		d, err := conformance.ParseDialect(*db)
 		if err != nil {
