@@ -7,7 +7,6 @@ import (
 	"io"
 	"mime"
 	"net/http"
-	"os"
 	"path/filepath"
 	"slices"
 	"sort"
@@ -169,36 +168,12 @@ func (g *endpointGroup) setUpDemo(ctx context.Context, sc *Scratch) error {
 	return g.serve(ctx, sc, cat)
 }
 
-// setUpGraphs stores the group's documents in triple tables, each in its named
-// graph, and serves them through the generated mapping.
+// setUpGraphs stores the group's documents, each in its named graph, and
+// serves them.
 func (g *endpointGroup) setUpGraphs(ctx context.Context, sc *Scratch) error {
-	tables := newTripleTables()
-	for i, l := range g.graphs {
-		src, err := os.ReadFile(l.file)
-		if err != nil {
-			return err
-		}
-		base, err := fileIRI(l.file)
-		if err != nil {
-			return err
-		}
-		doc, err := rdf.ParseTurtle(l.file, src, base)
-		if err != nil {
-			return fmt.Errorf("reading the test data: %w", err)
-		}
-		for _, tr := range doc.Triples() {
-			if err := tables.add(l.graph, tr, fmt.Sprintf("d%d.", i+1)); err != nil {
-				return fmt.Errorf("%s: %w", l.file, err)
-			}
-		}
-	}
-	tables.ensureShape()
-	if err := tables.store(ctx, sc); err != nil {
-		return err
-	}
-	cat, err := r2rml.Load("protocol-mapping.ttl", []byte(tables.mapping()))
+	cat, err := storeDataset(ctx, sc, g.graphs)
 	if err != nil {
-		return &StageError{Stage: "loading the generated mapping", Err: err}
+		return err
 	}
 	return g.serve(ctx, sc, cat)
 }

@@ -14,7 +14,6 @@ import (
 	"strings"
 	"time"
 
-	"veneer/catalog/r2rml"
 	"veneer/catalog/rdf"
 	"veneer/rewrite/algebra"
 	"veneer/rewrite/exec"
@@ -410,37 +409,12 @@ func (g *evalGroup) name(first *evalCase) string {
 	return folder + " " + strings.Join(files, ", ")
 }
 
-// setup stores the dataset in triple tables on the scratch database and
-// builds the engine over the generated mapping, as veneer serve does.
+// setup stores the dataset on the scratch database and builds the engine
+// over it, as veneer serve does.
 func (g *evalGroup) setup(ctx context.Context, sc *Scratch) error {
-	tables := newTripleTables()
-	for i, l := range g.loads {
-		src, err := os.ReadFile(l.file)
-		if err != nil {
-			return err
-		}
-		base, err := fileIRI(l.file)
-		if err != nil {
-			return err
-		}
-		doc, err := rdf.ParseTurtle(l.file, src, base)
-		if err != nil {
-			return fmt.Errorf("reading the test data: %w", err)
-		}
-		scope := fmt.Sprintf("d%d.", i+1)
-		for _, tr := range doc.Triples() {
-			if err := tables.add(l.graph, tr, scope); err != nil {
-				return fmt.Errorf("%s: %w", l.file, err)
-			}
-		}
-	}
-	tables.ensureShape()
-	if err := tables.store(ctx, sc); err != nil {
-		return err
-	}
-	cat, err := r2rml.Load("sparql-eval-mapping.ttl", []byte(tables.mapping()))
+	cat, err := storeDataset(ctx, sc, g.loads)
 	if err != nil {
-		return &StageError{Stage: "loading the generated mapping", Err: err}
+		return err
 	}
 	src, err := sc.Source(ctx)
 	if err != nil {

@@ -3,9 +3,12 @@ package conformance
 import (
 	"context"
 	"fmt"
+	"os"
 	"slices"
 	"strings"
 
+	"veneer/catalog"
+	"veneer/catalog/r2rml"
 	"veneer/catalog/rdf"
 	"veneer/catalog/source"
 )
@@ -26,6 +29,42 @@ import (
 // over all of its columns: the planner sees that no two rows can give the same
 // triple and need not add DISTINCT, as it would over a view whose rows it
 // cannot prove unique. The tables are tiny, so the key's index is the only one.
+
+// storeDataset reads the documents of a dataset (Turtle or N-Triples, each
+// with its file: IRI as the base), stores their triples in triple tables on
+// the scratch database and returns the catalog of the generated mapping.
+func storeDataset(ctx context.Context, sc *Scratch, loads []graphLoad) (*catalog.Catalog, error) {
+	tables := newTripleTables()
+	for i, l := range loads {
+		src, err := os.ReadFile(l.file)
+		if err != nil {
+			return nil, err
+		}
+		base, err := fileIRI(l.file)
+		if err != nil {
+			return nil, err
+		}
+		doc, err := rdf.ParseTurtle(l.file, src, base)
+		if err != nil {
+			return nil, fmt.Errorf("reading the test data: %w", err)
+		}
+		scope := fmt.Sprintf("d%d.", i+1)
+		for _, tr := range doc.Triples() {
+			if err := tables.add(l.graph, tr, scope); err != nil {
+				return nil, fmt.Errorf("%s: %w", l.file, err)
+			}
+		}
+	}
+	tables.ensureShape()
+	if err := tables.store(ctx, sc); err != nil {
+		return nil, err
+	}
+	cat, err := r2rml.Load("generated-mapping.ttl", []byte(tables.mapping()))
+	if err != nil {
+		return nil, &StageError{Stage: "loading the generated mapping", Err: err}
+	}
+	return cat, nil
+}
 
 // tripleShape is the shape of the triples of one table.
 type tripleShape struct {

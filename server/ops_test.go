@@ -145,6 +145,11 @@ func TestExplainRoute(t *testing.T) {
 	if r.status != 200 || r.body != "algebra:\n  (bgp q)\nsql: SELECT 1\nin-process: nothing\n" {
 		t.Errorf("text explain: %d %q", r.status, r.body)
 	}
+	// The same view on the query endpoint itself: /sparql?explain.
+	r = env.do(t, "GET", "/sparql?explain&query=q", "", "Accept", "text/plain")
+	if r.status != 200 || !strings.Contains(r.body, "in-process: nothing") {
+		t.Errorf("/sparql?explain: %d %q", r.status, r.body)
+	}
 	plain := newEnv(t, DefaultConfig(), &fakeEngine{answer: kindsAnswer})
 	if r := plain.do(t, "GET", "/explain?query=q", ""); r.status != 501 {
 		t.Errorf("engine without Explain: %d", r.status)

@@ -180,6 +180,10 @@ func (s *Server) sparql(w http.ResponseWriter, r *http.Request) error {
 	if (r.Method == http.MethodGet || r.Method == http.MethodHead) && !isQueryRequest(r) {
 		return s.describe(w, r, endpoint)
 	}
+	if r.URL.Query().Has("explain") {
+		// /sparql?explain&query=…: how the query would be answered, not the answer.
+		return s.explain(w, r)
+	}
 	if err := s.auth.check(r); err != nil {
 		return err
 	}

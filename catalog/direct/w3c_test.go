@@ -31,9 +31,9 @@ type dmCase struct {
 
 // dmCases reads the Direct Mapping tests from the suite's manifests.
 func dmCases(t *testing.T) []dmCase {
-	manifests, err := filepath.Glob(filepath.Join(rdb2rdf.Dir(), "D*", "manifest.ttl"))
+	manifests, err := filepath.Glob(filepath.Join(rdb2rdf.Dir(t), "D*", "manifest.ttl"))
 	if err != nil || len(manifests) == 0 {
-		t.Fatalf("no RDB2RDF manifests under %s (set VENEER_W3C to the W3C suites)", rdb2rdf.Dir())
+		t.Fatalf("no RDB2RDF manifests under %s (set VENEER_W3C to the W3C suites)", rdb2rdf.Dir(t))
 	}
 	var cases []dmCase
 	for _, m := range manifests {

@@ -39,7 +39,7 @@ var foreignViews = []string{"R2RMLTC0002d", "R2RMLTC0003b", "R2RMLTC0014a", "R2R
 // positioned errors, and the errors that need the database
 // (w3c-needs-db.txt) must be found here.
 func TestW3CCheck(t *testing.T) {
-	root := filepath.Join(w3cDir(t), "rdb2rdf-tests")
+	root := rdb2rdf.Dir(t)
 	dirs, err := filepath.Glob(filepath.Join(root, "D*"))
 	if err != nil || len(dirs) == 0 {
 		t.Fatalf("no test directories under %s (%v)", root, err)

@@ -8,6 +8,7 @@ import (
 	"strings"
 	"testing"
 
+	"veneer/catalog/internal/rdb2rdf"
 	"veneer/catalog/rdf"
 )
 
@@ -21,21 +22,6 @@ const (
 	testNS    rdf.IRI = "http://purl.org/NET/rdb2rdf-test#"
 	dctermsID         = rdf.IRI("http://purl.org/dc/elements/1.1/identifier")
 )
-
-func w3cDir(t *testing.T) string {
-	t.Helper()
-	dir := os.Getenv("VENEER_W3C")
-	if dir == "" {
-		dir = filepath.Join("..", "..", "..", "shared", "w3c")
-	}
-	if _, err := os.Stat(dir); err != nil {
-		if os.Getenv("CI") == "true" {
-			t.Fatalf("W3C suites not found at %s (set VENEER_W3C): %v", dir, err)
-		}
-		t.Skipf("W3C suites not found at %s (set VENEER_W3C): %v", dir, err)
-	}
-	return dir
-}
 
 type r2rmlTest struct {
 	id, mapping string
@@ -123,7 +109,7 @@ func readNeedsDB(t *testing.T) map[string]string {
 // the manifest expects to fail, for a reason the loader can see, must be
 // rejected with positioned errors; every other mapping must load.
 func TestW3CMappings(t *testing.T) {
-	root := filepath.Join(w3cDir(t), "rdb2rdf-tests")
+	root := rdb2rdf.Dir(t)
 	dirs, err := filepath.Glob(filepath.Join(root, "D*"))
 	if err != nil || len(dirs) == 0 {
 		t.Fatalf("no test directories under %s (%v)", root, err)

@@ -81,7 +81,7 @@ func roundTrip(t *testing.T, cat *catalog.Catalog, prefixes ...rdf.Prefix) (*cat
 // TestWriteW3CMappings writes every mapping of the W3C RDB2RDF suite that
 // loads, reads it back, and compares the two catalogs.
 func TestWriteW3CMappings(t *testing.T) {
-	files, err := filepath.Glob(filepath.Join(w3cDir(t), "rdb2rdf-tests", "D*", "r2rml*.ttl"))
+	files, err := filepath.Glob(filepath.Join(rdb2rdf.Dir(t), "D*", "r2rml*.ttl"))
 	if err != nil || len(files) == 0 {
 		t.Fatalf("no mappings found (%v)", err)
 	}
@@ -105,9 +105,9 @@ func TestWriteW3CMappings(t *testing.T) {
 // (leaving out the base IRIs the reader gives to maps whose IRIs are all
 // absolute already), on every dialect.
 func TestWriteDirectMapping(t *testing.T) {
-	dirs, err := filepath.Glob(filepath.Join(rdb2rdf.Dir(), "D*"))
+	dirs, err := filepath.Glob(filepath.Join(rdb2rdf.Dir(t), "D*"))
 	if err != nil || len(dirs) == 0 {
-		t.Fatalf("no test directories under %s (%v)", rdb2rdf.Dir(), err)
+		t.Fatalf("no test directories under %s (%v)", rdb2rdf.Dir(t), err)
 	}
 	const base = "http://example.com/base/"
 	for _, d := range sourcetest.Dialects {

@@ -190,7 +190,7 @@ func expected(t *testing.T, endpoint, form, query string) (any, error) {
 		return nil, &nodeError{err: errStatus(resp.StatusCode), stderr: firstLine(string(body))}
 	}
 	if form == "ask" {
-		return readBoolean("application/sparql-results+json", body)
+		return readBoolean(body)
 	}
 	doc, err := rdf.ParseNTriples("answer", body)
 	if err != nil {

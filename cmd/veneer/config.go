@@ -11,6 +11,7 @@ import (
 	"strconv"
 	"strings"
 	"time"
+	"veneer/rewrite"
 
 	"go.yaml.in/yaml/v3"
 
@@ -51,6 +52,10 @@ type limitsConf struct {
 	MaxQueryBytes int64         `yaml:"max_query_bytes"`
 	MaxBodyBytes  int64         `yaml:"max_body_bytes"`
 	MaxRows       int64         `yaml:"max_rows"`
+	// MaxUnions and MaxTables bound the SQL one query may become (see
+	// rewrite.Limits): a query beyond them is refused as too complex.
+	MaxUnions int64 `yaml:"max_unions"`
+	MaxTables int64 `yaml:"max_tables"`
 }
 
 // authConf names where the bearer tokens come from. The tokens themselves are
@@ -92,6 +97,8 @@ func defaultConfig() config {
 			MaxQueryBytes: d.Limits.MaxQueryBytes,
 			MaxBodyBytes:  d.Limits.MaxBodyBytes,
 			MaxRows:       d.Limits.MaxRows,
+			MaxUnions:     int64(rewrite.DefaultLimits().MaxUnions),
+			MaxTables:     int64(rewrite.DefaultLimits().MaxTables),
 		},
 		Log:          logConf{Level: "info", Format: "json", SlowQuery: d.SlowQuery},
 		DrainTimeout: d.DrainTimeout,
@@ -145,6 +152,10 @@ var options = []option{
 		set: int64s(func(c *config) *int64 { return &c.Limits.MaxBodyBytes })},
 	{flag: "max-rows", env: "VENEER_MAX_ROWS", usage: "most solutions or triples in one answer, 0 for no limit (YAML limits.max_rows)",
 		set: int64s(func(c *config) *int64 { return &c.Limits.MaxRows })},
+	{flag: "max-unions", env: "VENEER_MAX_UNIONS", usage: "most union branches one query's SQL may unfold into (YAML limits.max_unions)",
+		set: int64s(func(c *config) *int64 { return &c.Limits.MaxUnions })},
+	{flag: "max-tables", env: "VENEER_MAX_TABLES", usage: "most tables one SELECT of a query's SQL may join (YAML limits.max_tables)",
+		set: int64s(func(c *config) *int64 { return &c.Limits.MaxTables })},
 	{flag: "token-file", env: "VENEER_TOKEN_FILE", usage: "file of bearer tokens, one a line; tokens may also come from " + tokensEnv + " (YAML auth.token_file)",
 		set: str(func(c *config) *string { return &c.Auth.TokenFile })},
 	{flag: "cors-origin", env: "VENEER_CORS_ORIGINS", list: true, usage: "origin whose pages may read answers, repeatable, * for any (YAML cors.origins)",
@@ -308,6 +319,8 @@ func (c *config) check() error {
 		return fmt.Errorf("the configuration names %d sources; one source is served for now", len(c.Sources))
 	case (c.TLS.Cert == "") != (c.TLS.Key == ""):
 		return errors.New("TLS needs both a certificate and a key")
+	case c.Limits.MaxUnions < 1 || c.Limits.MaxTables < 1:
+		return fmt.Errorf("limits: max_unions and max_tables must be at least 1")
 	case c.Limits.MaxConcurrent < 0 || c.Limits.MaxQueued < 0 || c.Limits.MaxRows < 0:
 		return errors.New("limits cannot be negative")
 	}
@@ -347,4 +360,9 @@ func (c *config) tokens(getenv func(string) string) (*server.Tokens, error) {
 		toks = append(toks, more...)
 	}
 	return server.NewTokens(toks...), nil
+}
+
+// plannerLimits are the planner's limits the configuration sets.
+func (c *config) plannerLimits() rewrite.Limits {
+	return rewrite.Limits{MaxUnions: int(c.Limits.MaxUnions), MaxTables: int(c.Limits.MaxTables)}
 }

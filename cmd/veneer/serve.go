@@ -138,6 +138,7 @@ func serve(ctx context.Context, c *config, src source.Source, load func(context.
 		if err != nil {
 			return nil, nil, err
 		}
+		e.Planner.SetLimits(c.plannerLimits())
 		return server.FromExec(e), cat, nil
 	}
 	build := func(ctx context.Context) (server.Engine, error) {

@@ -13,6 +13,7 @@ import (
 	"veneer/catalog/rdf"
 	"veneer/catalog/source"
 	"veneer/conformance"
+	"veneer/conformance/w3cdir"
 )
 
 // The materialiser is itself checked against external ground truth: the W3C
@@ -30,22 +31,9 @@ var w3cSkips = map[string]string{
 	"R2RMLTC0014b": "its R2RML view joins strings with '+', SQL Server's operator, which SQLite takes for addition",
 }
 
-// w3cDir is the directory of the W3C suites: VENEER_W3C, or shared/w3c beside
-// the repository.
-func w3cDir(t *testing.T) string {
-	dir := os.Getenv("VENEER_W3C")
-	if dir == "" {
-		dir = filepath.Join("..", "..", "..", "shared", "w3c")
-	}
-	if _, err := os.Stat(filepath.Join(dir, "rdb2rdf-tests")); err != nil {
-		t.Fatalf("the W3C suites are not at %s (set VENEER_W3C): %v", dir, err)
-	}
-	return dir
-}
-
 func TestMaterialiseW3CR2RML(t *testing.T) {
 	ctx := context.Background()
-	dirs, err := filepath.Glob(filepath.Join(w3cDir(t), "rdb2rdf-tests", "D*"))
+	dirs, err := filepath.Glob(filepath.Join(w3cdir.ForTest(t), "rdb2rdf-tests", "D*"))
 	if err != nil || len(dirs) == 0 {
 		t.Fatalf("no test directories: %v", err)
 	}

@@ -9,25 +9,10 @@ import (
 	"testing"
 
 	"veneer/catalog/rdf"
+	"veneer/conformance/w3cdir"
 	"veneer/rewrite/algebra"
 	"veneer/rewrite/sparql"
 )
-
-// w3cDir is where the W3C test suites are: ../../../shared/w3c from this
-// package, or $VENEER_W3C.
-func w3cDir(t *testing.T) string {
-	dir := os.Getenv("VENEER_W3C")
-	if dir == "" {
-		dir = filepath.Join("..", "..", "..", "shared", "w3c")
-	}
-	if _, err := os.Stat(filepath.Join(dir, "rdf-tests", "sparql")); err != nil {
-		if os.Getenv("CI") == "true" {
-			t.Fatalf("W3C suites not found at %s: %v", dir, err)
-		}
-		t.Skipf("W3C suites not found at %s (set VENEER_W3C): %v", dir, err)
-	}
-	return dir
-}
 
 // Vocabulary of the W3C test manifests (rdf-tests/ns).
 const (
@@ -143,7 +128,7 @@ var w3cSkips = map[string]string{}
 // evaluation test of both suites, as each manifest lists them. It logs pass and
 // fail counts per manifest.
 func TestW3C(t *testing.T) {
-	root := filepath.Join(w3cDir(t), "rdf-tests", "sparql")
+	root := filepath.Join(w3cdir.ForTest(t), "rdf-tests", "sparql")
 	manifests, err := filepath.Glob(filepath.Join(root, "sparql1[01]", "*", "manifest.ttl"))
 	if err != nil {
 		t.Fatal(err)

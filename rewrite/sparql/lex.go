@@ -4,6 +4,8 @@ import (
 	"fmt"
 	"strings"
 	"unicode/utf8"
+
+	"veneer/catalog/rdf"
 )
 
 // tokenType identifies the terminals of the grammar (§19.8, productions whose
@@ -218,7 +220,7 @@ func lexAny(l *lexer) stateFn {
 		return lexLangTag
 	case r == '_':
 		return lexBlankLabel
-	case r == ':' || isPNCharsBase(r):
+	case r == ':' || rdf.IsPNCharsBase(r):
 		return lexName
 	case '0' <= r && r <= '9':
 		return lexNumber
@@ -372,7 +374,7 @@ func lexVar(l *lexer) stateFn {
 	var b strings.Builder
 	for {
 		r, w, esc := l.peek(at)
-		ok := isPNCharsU(r) || ('0' <= r && r <= '9')
+		ok := rdf.IsPNCharsU(r) || ('0' <= r && r <= '9')
 		if b.Len() > 0 {
 			ok = ok || r == 0xB7 || (0x300 <= r && r <= 0x36F) || r == 0x203F || r == 0x2040
 		}
@@ -438,7 +440,7 @@ func lexBlankLabel(l *lexer) stateFn {
 	}
 	at := l.pos + 2
 	r, w, esc := l.peek(at)
-	if !isPNCharsU(r) && !('0' <= r && r <= '9') {
+	if !rdf.IsPNCharsU(r) && !('0' <= r && r <= '9') {
 		return l.errorf(at, "expected a blank node label after '_:'")
 	}
 	if msg, ok := l.checkRune(at, r, w, esc); !ok {
@@ -467,7 +469,7 @@ func (l *lexer) scanNameRest(at int, head string, local bool) (name string, end 
 			b.WriteRune(r)
 			at += w
 			continue
-		case isPNChars(r) || (local && r == ':'):
+		case rdf.IsPNChars(r) || (local && r == ':'):
 			if m, ok := l.checkRune(at, r, w, esc); !ok {
 				return "", 0, at, m
 			}
@@ -498,7 +500,9 @@ func (l *lexer) scanNameRest(at int, head string, local bool) (name string, end 
 //	[173] PN_LOCAL_ESC ::= '\' ( '_' | '~' | '.' | '-' | '!' | '$' | '&' | "'" | '(' | ')' | '*' | '+' | ',' | ';' | '=' | '/' | '?' | '#' | '@' | '%' )
 const localEscapes = "_~.-!$&'()*+,;=/?#@%"
 
-// lexName scans a prefixed name or a keyword.
+// lexName scans a prefixed name or a keyword. The character classes
+// PN_CHARS_BASE, PN_CHARS_U and PN_CHARS (rules [164] to [167]) are those of
+// Turtle, which catalog/rdf implements (rdf.IsPNCharsBase and the others).
 //
 //	[140] PNAME_NS ::= PN_PREFIX? ':'
 //	[141] PNAME_LN ::= PNAME_NS PN_LOCAL
@@ -520,7 +524,7 @@ func lexName(l *lexer) stateFn {
 	_, colon, _ := l.peek(at)
 	at += colon
 	r, w, esc := l.peek(at)
-	startsLocal := isPNCharsU(r) || r == ':' || ('0' <= r && r <= '9') ||
+	startsLocal := rdf.IsPNCharsU(r) || r == ':' || ('0' <= r && r <= '9') ||
 		(!esc && (r == '%' || r == '\\'))
 	if !startsLocal {
 		l.pos = at
@@ -619,31 +623,4 @@ func (l *lexer) exponentAt(at int) int {
 		return 0
 	}
 	return n + d
-}
-
-// isPNCharsBase implements
-//
-//	[164] PN_CHARS_BASE ::= [A-Z] | [a-z] | [#x00C0-#x00D6] | [#x00D8-#x00F6] | [#x00F8-#x02FF] | [#x0370-#x037D] | [#x037F-#x1FFF] | [#x200C-#x200D] | [#x2070-#x218F] | [#x2C00-#x2FEF] | [#x3001-#xD7FF] | [#xF900-#xFDCF] | [#xFDF0-#xFFFD] | [#x10000-#xEFFFF]
-func isPNCharsBase(r rune) bool {
-	switch {
-	case 'A' <= r && r <= 'Z', 'a' <= r && r <= 'z':
-		return true
-	case 0xC0 <= r && r <= 0xD6, 0xD8 <= r && r <= 0xF6, 0xF8 <= r && r <= 0x2FF,
-		0x370 <= r && r <= 0x37D, 0x37F <= r && r <= 0x1FFF, 0x200C <= r && r <= 0x200D,
-		0x2070 <= r && r <= 0x218F, 0x2C00 <= r && r <= 0x2FEF, 0x3001 <= r && r <= 0xD7FF,
-		0xF900 <= r && r <= 0xFDCF, 0xFDF0 <= r && r <= 0xFFFD, 0x10000 <= r && r <= 0xEFFFF:
-		return true
-	}
-	return false
-}
-
-// isPNCharsU implements [165] PN_CHARS_U ::= PN_CHARS_BASE | '_'.
-func isPNCharsU(r rune) bool { return r == '_' || isPNCharsBase(r) }
-
-// isPNChars implements
-//
-//	[167] PN_CHARS ::= PN_CHARS_U | '-' | [0-9] | #x00B7 | [#x0300-#x036F] | [#x203F-#x2040]
-func isPNChars(r rune) bool {
-	return isPNCharsU(r) || r == '-' || ('0' <= r && r <= '9') || r == 0xB7 ||
-		(0x300 <= r && r <= 0x36F) || r == 0x203F || r == 0x2040
 }

@@ -453,9 +453,9 @@ func escapeLocal(s string) string {
 		switch {
 		case r == '%' && i+2 < len(rs) && hexRune(rs[i+1]) && hexRune(rs[i+2]):
 			b.WriteRune(r) // the start of a PERCENT escape, kept as written
-		case r == ':' || ('0' <= r && r <= '9') || isPNCharsU(r):
+		case r == ':' || ('0' <= r && r <= '9') || rdf.IsPNCharsU(r):
 			b.WriteRune(r)
-		case i > 0 && isPNChars(r):
+		case i > 0 && rdf.IsPNChars(r):
 			b.WriteRune(r)
 		case r == '.' && i > 0 && !last:
 			b.WriteRune(r)

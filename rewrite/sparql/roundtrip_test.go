@@ -8,24 +8,9 @@ import (
 	"strings"
 	"testing"
 
+	"veneer/conformance/w3cdir"
 	"veneer/rewrite/sparql"
 )
-
-// w3cDir is where the W3C test suites are: ../../../shared/w3c from this
-// package, or $VENEER_W3C.
-func w3cDir(t *testing.T) string {
-	dir := os.Getenv("VENEER_W3C")
-	if dir == "" {
-		dir = filepath.Join("..", "..", "..", "shared", "w3c")
-	}
-	if _, err := os.Stat(filepath.Join(dir, "rdf-tests", "sparql")); err != nil {
-		if os.Getenv("CI") == "true" {
-			t.Fatalf("W3C suites not found at %s: %v", dir, err)
-		}
-		t.Skipf("W3C suites not found at %s (set VENEER_W3C): %v", dir, err)
-	}
-	return dir
-}
 
 // fileIRI is the IRI a query file is retrieved from, its base IRI.
 func fileIRI(path string) string {
@@ -100,7 +85,7 @@ func roundTrip(t *testing.T, name, src, base string) bool {
 // TestRoundTripW3C applies the round trip to every query file of the W3C SPARQL
 // suites (rdf-tests/sparql, all .rq files, valid or not) and to our testdata.
 func TestRoundTripW3C(t *testing.T) {
-	root := filepath.Join(w3cDir(t), "rdf-tests", "sparql")
+	root := filepath.Join(w3cdir.ForTest(t), "rdf-tests", "sparql")
 	var files []string
 	err := filepath.WalkDir(root, func(path string, d os.DirEntry, err error) error {
 		if err == nil && !d.IsDir() && strings.HasSuffix(path, ".rq") {

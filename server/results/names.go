@@ -4,6 +4,8 @@ import (
 	"fmt"
 	"strings"
 	"unicode/utf8"
+
+	"veneer/catalog/rdf"
 )
 
 // isVarName reports whether s matches VARNAME of SPARQL 1.1 Query §19.8:
@@ -15,66 +17,13 @@ func isVarName(s string) bool {
 	}
 	for i, r := range s {
 		switch {
-		case isPNCharsU(r) || isDigit(r):
+		case rdf.IsPNCharsU(r) || isDigit(r):
 		case i > 0 && (r == 0xB7 || 0x300 <= r && r <= 0x36F || 0x203F <= r && r <= 0x2040):
 		default:
 			return false
 		}
 	}
 	return true
-}
-
-// isPrefixName reports whether s, which must be valid UTF-8, can be declared
-// as a prefix in Turtle (RDF 1.1 Turtle §6.5):
-//
-//	[139s] PNAME_NS  ::= PN_PREFIX? ':'
-//	[167s] PN_PREFIX ::= PN_CHARS_BASE ((PN_CHARS | '.')* PN_CHARS)?
-func isPrefixName(s string) bool { return s == "" || isPNName(s, isPNCharsBase) }
-
-// isLocalName reports whether s, which must be valid UTF-8, can follow a prefix
-// in a Turtle prefixed name as it is, without escapes. It accepts the part of
-// PN_LOCAL (RDF 1.1 Turtle §6.5) that needs neither ':' nor PLX:
-//
-//	[168s] PN_LOCAL ::= (PN_CHARS_U | ':' | [0-9] | PLX) ((PN_CHARS | '.' | ':' | PLX)* (PN_CHARS | ':' | PLX))?
-func isLocalName(s string) bool {
-	return s == "" || isPNName(s, func(r rune) bool { return isPNCharsU(r) || isDigit(r) })
-}
-
-// isPNName reports whether s starts with a rune first accepts, goes on with
-// PN_CHARS and '.', and does not end with '.'.
-func isPNName(s string, first func(rune) bool) bool {
-	for i, r := range s {
-		if i == 0 && !first(r) || i > 0 && !isPNChars(r) && r != '.' {
-			return false
-		}
-	}
-	return !strings.HasSuffix(s, ".")
-}
-
-// The character classes of the Turtle and SPARQL grammars (RDF 1.1 Turtle
-// §6.5, SPARQL 1.1 Query §19.8). They repeat unexported helpers of
-// veneer/catalog/rdf, which does not export them.
-
-// isPNCharsBase implements PN_CHARS_BASE.
-func isPNCharsBase(r rune) bool {
-	switch {
-	case 'A' <= r && r <= 'Z', 'a' <= r && r <= 'z',
-		0xC0 <= r && r <= 0xD6, 0xD8 <= r && r <= 0xF6, 0xF8 <= r && r <= 0x2FF,
-		0x370 <= r && r <= 0x37D, 0x37F <= r && r <= 0x1FFF, 0x200C <= r && r <= 0x200D,
-		0x2070 <= r && r <= 0x218F, 0x2C00 <= r && r <= 0x2FEF, 0x3001 <= r && r <= 0xD7FF,
-		0xF900 <= r && r <= 0xFDCF, 0xFDF0 <= r && r <= 0xFFFD, 0x10000 <= r && r <= 0xEFFFF:
-		return true
-	}
-	return false
-}
-
-// isPNCharsU implements PN_CHARS_U ::= PN_CHARS_BASE | '_'.
-func isPNCharsU(r rune) bool { return r == '_' || isPNCharsBase(r) }
-
-// isPNChars implements PN_CHARS ::= PN_CHARS_U | '-' | [0-9] | #x00B7 | [#x0300-#x036F] | [#x203F-#x2040].
-func isPNChars(r rune) bool {
-	return isPNCharsU(r) || r == '-' || isDigit(r) || r == 0xB7 ||
-		0x300 <= r && r <= 0x36F || 0x203F <= r && r <= 0x2040
 }
 
 func isDigit(r rune) bool { return '0' <= r && r <= '9' }

@@ -378,23 +378,6 @@ func diffTriples(want, got []rdf.Triple) string {
 	return ""
 }
 
-// w3cDir returns the directory of the W3C suites: $VENEER_W3C, or
-// ../../../shared/w3c from this package. Without it the test skips, except
-// in CI where a skip would hide a missing suite.
-func w3cDir(t testing.TB) string {
-	dir := os.Getenv("VENEER_W3C")
-	if dir == "" {
-		dir = filepath.Join("..", "..", "..", "shared", "w3c")
-	}
-	if _, err := os.Stat(dir); err != nil {
-		if os.Getenv("CI") == "true" {
-			t.Fatalf("W3C suites not found: %v", err)
-		}
-		t.Skipf("W3C suites not found (set VENEER_W3C): %v", err)
-	}
-	return dir
-}
-
 // manifestEntry is a test of a W3C manifest: its identifier (the fragment of
 // its IRI), type, and the files its mf:action and mf:result name.
 type manifestEntry struct {

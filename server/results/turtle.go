@@ -50,7 +50,8 @@ func (e *turtleEncoder) begin(dst []byte) ([]byte, error) {
 		if err := checkUTF8(p.Name); err != nil {
 			return dst, fmt.Errorf("prefix %q: %w", p.Name, err)
 		}
-		if !isPrefixName(p.Name) {
+		// PNAME_NS ::= PN_PREFIX? ':' (RDF 1.1 Turtle §6.5 [139s]): the empty prefix is one too.
+		if p.Name != "" && !rdf.IsPrefixName(p.Name) {
 			return dst, fmt.Errorf("prefix %q is not a Turtle PN_PREFIX", p.Name)
 		}
 		dst = append(dst, "@prefix "...)
@@ -201,7 +202,7 @@ func (s termSyntax) prefixed(iri rdf.IRI) (name, local string, ok bool) {
 	best := -1
 	for i, p := range s.prefixes {
 		rest, found := strings.CutPrefix(string(iri), string(p.IRI))
-		if found && isLocalName(rest) && (best < 0 || len(p.IRI) > len(s.prefixes[best].IRI)) {
+		if found && rdf.IsLocalName(rest) && (best < 0 || len(p.IRI) > len(s.prefixes[best].IRI)) {
 			best, local = i, rest
 		}
 	}

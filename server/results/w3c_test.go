@@ -13,6 +13,7 @@ import (
 	"testing"
 
 	"veneer/catalog/rdf"
+	"veneer/conformance/w3cdir"
 )
 
 // writeTable writes a table of solutions with sw, failing the test on error.
@@ -36,7 +37,7 @@ func writeTable(t *testing.T, sw SelectWriter, tab table) {
 // manifest): the expected .srj document is read into solutions, written
 // again, and both documents must be the same JSON value (member order aside).
 func TestW3CJSONRes(t *testing.T) {
-	dir := filepath.Join(w3cDir(t), "rdf-tests", "sparql", "sparql11", "json-res")
+	dir := filepath.Join(w3cdir.ForTest(t), "rdf-tests", "sparql", "sparql11", "json-res")
 	ran := 0
 	for _, e := range readManifest(t, dir) {
 		if !strings.HasSuffix(e.result, ".srj") {
@@ -91,7 +92,7 @@ func TestW3CJSONRes(t *testing.T) {
 //     csv03 is written 1.0E6 in csvtsv03.csv but 1.0e6 in csvtsv03.tsv (data2.ttl
 //     has "1.0E6"), so doubles compare by value.
 func TestW3CCSVTSVRes(t *testing.T) {
-	dir := filepath.Join(w3cDir(t), "rdf-tests", "sparql", "sparql11", "csv-tsv-res")
+	dir := filepath.Join(w3cdir.ForTest(t), "rdf-tests", "sparql", "sparql11", "csv-tsv-res")
 	ran := 0
 	for _, e := range readManifest(t, dir) {
 		ext := filepath.Ext(e.result)
@@ -176,7 +177,7 @@ func TestW3CCSVTSVRes(t *testing.T) {
 // section of SPARQL 1.1 Query Results CSV and TSV Formats derives from the
 // terms. ASK results go through WriteBoolean, which must refuse CSV and TSV.
 func TestW3CResultCorpus(t *testing.T) {
-	root := filepath.Join(w3cDir(t), "rdf-tests", "sparql")
+	root := filepath.Join(w3cdir.ForTest(t), "rdf-tests", "sparql")
 	var files []string
 	err := filepath.WalkDir(root, func(path string, d fs.DirEntry, err error) error {
 		if err == nil && !d.IsDir() && strings.HasSuffix(path, ".srx") {
@@ -330,7 +331,7 @@ func checkBooleanFormats(t *testing.T, name string, v bool) {
 // JSON-LD with readJSONLD; the triples must come back in order, with blank
 // nodes corresponding one to one.
 func TestW3CGraphCorpus(t *testing.T) {
-	suites := filepath.Join(w3cDir(t), "rdf-tests", "rdf", "rdf11")
+	suites := filepath.Join(w3cdir.ForTest(t), "rdf-tests", "rdf", "rdf11")
 	const rdft = "http://www.w3.org/ns/rdftest#"
 	var files []string
 	for _, e := range readManifest(t, filepath.Join(suites, "rdf-turtle")) {

@@ -12,15 +12,14 @@ import (
 
 	"veneer/catalog/source"
 	"veneer/catalog/source/sourcetest"
+	"veneer/conformance/w3cdir"
 )
 
-// Dir is the suite: $VENEER_W3C/rdb2rdf-tests, or the shared copy beside the
-// repository as seen from a package two levels below its root.
-func Dir() string {
-	if d := os.Getenv("VENEER_W3C"); d != "" {
-		return filepath.Join(d, "rdb2rdf-tests")
-	}
-	return filepath.Join("..", "..", "..", "shared", "w3c", "rdb2rdf-tests")
+// Dir is the suite's directory, rdb2rdf-tests in the W3C suites' checkout
+// (w3cdir.ForTest: the test skips without it, or fails in CI).
+func Dir(t testing.TB) string {
+	t.Helper()
+	return filepath.Join(w3cdir.ForTest(t), "rdb2rdf-tests")
 }
 
 // adaptation is a textual change that makes the suite's SQL, written for a

@@ -4,10 +4,12 @@
 //
 // It prints one row per failing test (its identifier and the reason) and ends
 // with the line "SUITE DB: N passed, M failed, K skipped", DB being "none" for
-// a suite that needs no database. DIR, the checkout of the W3C suites, defaults
-// to $VENEER_W3C or else ../shared/w3c; the test servers' DSNs come from
-// VENEER_TEST_POSTGRES and VENEER_TEST_MYSQL. The exit status is 0 when no
-// test failed, 1 when some did, 2 when the run could not be made.
+// a suite that needs no database; a test the suite's known failures list has
+// is a failure too, its row saying so. DIR, the checkout of the W3C suites,
+// defaults to $VENEER_W3C or else ../shared/w3c from the module's root; the
+// test servers' DSNs come from VENEER_TEST_POSTGRES and VENEER_TEST_MYSQL.
+// The exit status is 0 when no test failed, 1 when some did, 2 when the run
+// could not be made.
 package main
 
 import (
@@ -23,6 +25,7 @@ import (
 
 	"veneer/catalog/source"
 	"veneer/conformance"
+	"veneer/conformance/w3cdir"
 )
 
 // suites are the suites the command knows, by name.
@@ -90,11 +93,7 @@ func parseArgs(ctx context.Context, args []string, stderr io.Writer) (conformanc
 	fs := flag.NewFlagSet("w3c", flag.ContinueOnError)
 	fs.SetOutput(stderr)
 	db := fs.String("db", "sqlite", "database to run database suites on: sqlite, postgres or mysql")
-	dir := os.Getenv("VENEER_W3C")
-	if dir == "" {
-		dir = "../shared/w3c"
-	}
-	fs.StringVar(&opt.Dir, "w3c", dir, "directory of the W3C test suites")
+	fs.StringVar(&opt.Dir, "w3c", w3cdir.Dir(), "directory of the W3C test suites")
 	verbose := fs.Bool("v", false, "show every test, and the details of failures")
 	fs.Usage = func() {
 		names := make([]string, 0, len(suites))

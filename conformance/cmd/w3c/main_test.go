@@ -3,24 +3,18 @@ package main
 import (
 	"bytes"
 	"context"
-	"os"
-	"path/filepath"
 	"regexp"
 	"strings"
 	"testing"
+
+	"veneer/conformance/w3cdir"
 )
 
 // The runner's output contract (DESIGN.md, "Contracts other tools rely on"):
 // one row per failing test with its identifier and reason, and the last line
 // "SUITE DB: N passed, M failed, K skipped".
 func TestOutputContract(t *testing.T) {
-	dir := os.Getenv("VENEER_W3C")
-	if dir == "" {
-		dir = filepath.Join("..", "..", "..", "..", "shared", "w3c")
-	}
-	if _, err := os.Stat(dir); err != nil {
-		t.Skipf("W3C suites not found at %s (set VENEER_W3C): %v", dir, err)
-	}
+	dir := w3cdir.ForTest(t)
 	var stdout, stderr bytes.Buffer
 	code := run(context.Background(), []string{"rdb2rdf", "--db", "sqlite", "--w3c", dir}, &stdout, &stderr)
 	lines := strings.Split(strings.TrimSuffix(stdout.String(), "\n"), "\n")
