@@ -228,3 +228,18 @@ func (m *Manifest) Name(test rdf.Term) (string, error) {
 	}
 	return name, nil
 }
+
+// Kind returns the local name of a test's one rdf:type in the vocabulary ns:
+// the rest of the type's IRI after ns. A type outside ns is an error.
+func (m *Manifest) Kind(test rdf.Term, ns string) (string, error) {
+	ty, err := m.Object(test, rdf.RDFType)
+	if err != nil {
+		return "", err
+	}
+	iri, _ := ty.(rdf.IRI)
+	kind, ok := strings.CutPrefix(string(iri), ns)
+	if !ok || kind == "" {
+		return "", m.Errorf(test, "has the type %v, which is not a type of test of <%s>", ty, ns)
+	}
+	return kind, nil
+}

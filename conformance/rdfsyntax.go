@@ -98,17 +98,16 @@ func (s rdfSyntaxSuite) readTest(m *Manifest, entry rdf.Term, base rdf.IRI) (Tes
 	if err != nil {
 		return Test{}, err
 	}
-	ty, err := m.Object(entry, rdf.RDFType)
+	ty, err := m.Kind(entry, rdftNS)
 	if err != nil {
 		return Test{}, err
 	}
-	tyIRI, _ := ty.(rdf.IRI)
-	kind, ok := strings.CutPrefix(string(tyIRI), rdftNS+s.typePrefix)
+	kind, ok := strings.CutPrefix(ty, s.typePrefix)
 	switch {
 	case !ok:
-		return Test{}, m.Errorf(entry, "has the type %v, not an rdft:%s… test", ty, s.typePrefix)
+		return Test{}, m.Errorf(entry, "has the type rdft:%s, not an rdft:%s… test", ty, s.typePrefix)
 	case kind != rdfPositiveSyntax && kind != rdfNegativeSyntax && kind != rdfEval && kind != rdfNegativeEval:
-		return Test{}, m.Errorf(entry, "has the type %v, which is not a kind of test this suite knows", ty)
+		return Test{}, m.Errorf(entry, "has the type rdft:%s, which is not a kind of test this suite knows", ty)
 	}
 	c := &rdfSyntaxCase{kind: kind, parse: s.parse}
 	if c.action, err = m.File(entry, mfAction); err != nil {

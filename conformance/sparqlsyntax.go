@@ -5,7 +5,6 @@ import (
 	"fmt"
 	"os"
 	"path/filepath"
-	"strings"
 
 	"veneer/catalog/rdf"
 	"veneer/rewrite/algebra"
@@ -87,14 +86,12 @@ func readSyntaxTest(m *Manifest, d string, entry rdf.Term) (Test, error) {
 	if err != nil {
 		return Test{}, err
 	}
-	ty, err := m.Object(entry, rdf.RDFType)
+	kind, err := m.Kind(entry, testManifestNS)
 	if err != nil {
 		return Test{}, err
 	}
-	tyIRI, _ := ty.(rdf.IRI)
-	kind, _ := strings.CutPrefix(string(tyIRI), testManifestNS)
 	if _, known := algebra.W3CVerdict(kind, nil); !known {
-		return Test{}, m.Errorf(entry, "has the type %v, which is not a type of test with a query", ty)
+		return Test{}, m.Errorf(entry, "has the type mf:%s, which is not a type of test with a query", kind)
 	}
 	path, err := m.File(entry, mfAction)
 	if err != nil {

@@ -9,6 +9,7 @@ import (
 	"strings"
 	"testing"
 	"time"
+	"veneer/rewrite"
 
 	"veneer/catalog/source"
 	"veneer/server"
@@ -38,6 +39,8 @@ func TestReadmeLimits(t *testing.T) {
 		"limits.max_query_bytes": num(l.MaxQueryBytes),
 		"limits.max_body_bytes":  num(l.MaxBodyBytes),
 		"limits.max_rows":        num(l.MaxRows),
+		"limits.max_unions":      num(int64(rewrite.DefaultLimits().MaxUnions)),
+		"limits.max_tables":      num(int64(rewrite.DefaultLimits().MaxTables)),
 		"sources[0].max_conns":   num(source.DefaultMaxConns),
 		"drain_timeout":          dur(d.DrainTimeout),
 		"log.slow_query":         dur(d.SlowQuery),
