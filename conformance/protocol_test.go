@@ -1,10 +1,8 @@
 package conformance
 
 import (
-	"context"
 	"testing"
 
-	"veneer/catalog/source"
 	"veneer/conformance/w3cdir"
 )
 
@@ -14,28 +12,12 @@ import (
 // test that fails fails this test unless testdata/known-protocol.txt lists it;
 // testdata/skip-protocol.txt leaves out the update tests.
 func TestProtocol(t *testing.T) {
-	dir := w3cdir.ForTest(t)
-	skips, err := SkipListFor("protocol")
-	if err != nil {
-		t.Fatal(err)
-	}
-	known, err := KnownFailuresFor("protocol")
-	if err != nil {
-		t.Fatal(err)
-	}
-	for _, d := range []source.Dialect{source.SQLite, source.Postgres, source.MySQL} {
-		t.Run(d.String(), func(t *testing.T) {
-			srv := testServer(t, d)
-			rep, err := Run(context.Background(), Protocol(), Options{Dir: dir, Server: srv, Skips: skips, Known: known}, nil)
-			if err != nil {
-				t.Fatal(err)
-			}
-			checkReport(t, rep)
-			if rep.Passed == 0 {
-				t.Error("no test passed")
-			}
-		})
-	}
+	runOnEachDatabase(t, Protocol(), func(t *testing.T, rep *Report) {
+		checkReport(t, rep)
+		if rep.Passed == 0 {
+			t.Error("no test passed")
+		}
+	})
 }
 
 // The suite's identifiers name the folder and the test, and every test the

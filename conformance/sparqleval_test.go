@@ -22,35 +22,23 @@ import (
 // testdata/sparql-eval-floor.txt records. Failures are logged with their
 // reasons.
 func TestSPARQLEval(t *testing.T) {
-	dir := w3cdir.ForTest(t)
-	skips, err := SkipListFor("sparql-eval")
-	if err != nil {
-		t.Fatal(err)
-	}
-	for _, d := range []source.Dialect{source.SQLite, source.Postgres, source.MySQL} {
-		t.Run(d.String(), func(t *testing.T) {
-			srv := testServer(t, d)
-			rep, err := Run(context.Background(), SPARQLEval(), Options{Dir: dir, Server: srv, Skips: skips}, nil)
-			if err != nil {
-				t.Fatal(err)
+	runOnEachDatabase(t, SPARQLEval(), func(t *testing.T, rep *Report) {
+		for _, r := range rep.Results {
+			if r.Outcome == Failed {
+				t.Logf("FAIL %s: %s", r.ID, r.Reason)
 			}
-			for _, r := range rep.Results {
-				if r.Outcome == Failed {
-					t.Logf("FAIL %s: %s", r.ID, r.Reason)
-				}
-			}
-			for _, w := range rep.Warnings {
-				t.Error(w)
-			}
-			const floorFile = "sparql-eval-floor.txt"
-			if floor := passFloor(t, floorFile, d.String()); rep.Passed < floor {
-				t.Errorf("%s: fewer passed than the %d recorded in testdata/%s", rep.Summary(), floor, floorFile)
-			} else if rep.Passed > floor {
-				t.Logf("%d passed, more than the floor of %d: raise it in testdata/%s", rep.Passed, floor, floorFile)
-			}
-			t.Log(rep.Summary())
-		})
-	}
+		}
+		for _, w := range rep.Warnings {
+			t.Error(w)
+		}
+		const floorFile = "sparql-eval-floor.txt"
+		if floor := passFloor(t, floorFile, rep.DB); rep.Passed < floor {
+			t.Errorf("%s: fewer passed than the %d recorded in testdata/%s", rep.Summary(), floor, floorFile)
+		} else if rep.Passed > floor {
+			t.Logf("%d passed, more than the floor of %d: raise it in testdata/%s", rep.Passed, floor, floorFile)
+		}
+		t.Log(rep.Summary())
+	})
 }
 
 // The suite reads the two manifests' folders and the tests in them. The

@@ -305,7 +305,7 @@ func lexString(l *lexer) stateFn {
 		case (r == '\n' || r == '\r') && !long:
 			return l.errorf(at, `line break in a string: write \n, or use a long string (%s)`, strings.Repeat(quote, 3))
 		case r == '\\':
-			if u, ok := echar(l.peek()); ok {
+			if u, ok := EscapedChar(l.peek()); ok {
 				l.next()
 				l.sb.WriteByte(u)
 				continue
@@ -327,7 +327,12 @@ func (l *lexer) emitString(quote string) stateFn {
 	return lexSpace
 }
 
-func echar(r rune) (byte, bool) {
+// EscapedChar implements ECHAR of Turtle and SPARQL (RDF 1.1 Turtle §6.5
+// [159s], SPARQL 1.1 Query §19.8 [160]): the character that r stands for
+// after a backslash in a string, and whether r may follow one there.
+//
+//	ECHAR ::= '\' [tbnrf"'\]
+func EscapedChar(r rune) (byte, bool) {
 	switch r {
 	case 't':
 		return '\t', true

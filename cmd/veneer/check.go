@@ -3,10 +3,8 @@ package main
 import (
 	"context"
 	"errors"
-	"flag"
 	"fmt"
 	"io"
-	"os"
 	"strings"
 
 	"veneer/catalog/r2rml"
@@ -16,9 +14,7 @@ import (
 // problem, one a line with its file:line:column, then a summary. It fails
 // when there is an error; warnings alone do not fail it.
 func runCheck(ctx context.Context, args []string, stdout, stderr io.Writer) error {
-	fs := flag.NewFlagSet("check", flag.ContinueOnError)
-	fs.SetOutput(stderr)
-	c, rest, err := loadConfig("check", args, os.Getenv, true, fs)
+	c, rest, err := commandConfig("check", args, true, stderr)
 	if err != nil {
 		return err
 	}
@@ -28,7 +24,7 @@ func runCheck(ctx context.Context, args []string, stdout, stderr io.Writer) erro
 	sc := c.source()
 	switch {
 	case sc.DB == "":
-		return errors.New("check: a database is required: --db, VENEER_DB or sources[0].db in the configuration")
+		return errNoDatabase("check")
 	case len(sc.Mappings) == 0:
 		return errors.New("check: give the mapping files to check with --mapping (or VENEER_MAPPINGS, or sources[0].mappings)")
 	}

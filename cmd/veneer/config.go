@@ -234,6 +234,20 @@ func (f *flagValues) String() string     { return strings.Join(f.vals, ",") }
 func (f *flagValues) Set(v string) error { f.vals = append(f.vals, v); return nil }
 func (f *flagValues) IsBoolFlag() bool   { return f.boolean }
 
+// commandConfig reads the configuration of the subcommand name from its
+// arguments, the environment and the configuration file (loadConfig), and
+// returns it with the arguments left over.
+func commandConfig(name string, args []string, withSource bool, stderr io.Writer) (*config, []string, error) {
+	fs := flag.NewFlagSet(name, flag.ContinueOnError)
+	fs.SetOutput(stderr)
+	return loadConfig(name, args, os.Getenv, withSource, fs)
+}
+
+// errNoDatabase is the error of a subcommand that needs a database and has none.
+func errNoDatabase(name string) error {
+	return fmt.Errorf("%s: a database is required: --db, VENEER_DB or sources[0].db in the configuration", name)
+}
+
 // loadConfig builds the configuration of a serve or demo command from args
 // and the environment (getenv). withSource says whether the command takes the
 // database options. It returns the remaining arguments.

@@ -2,7 +2,6 @@ package main
 
 import (
 	"context"
-	"flag"
 	"fmt"
 	"io"
 	"net/url"
@@ -20,9 +19,7 @@ import (
 const demoQuery = `SELECT ?s ?p ?o WHERE { ?s ?p ?o } LIMIT 10`
 
 func runDemo(ctx context.Context, args []string, stdout, stderr io.Writer) error {
-	fs := flag.NewFlagSet("demo", flag.ContinueOnError)
-	fs.SetOutput(stderr)
-	c, rest, err := loadConfig("demo", args, os.Getenv, false, fs)
+	c, rest, err := commandConfig("demo", args, false, stderr)
 	if err != nil {
 		return err
 	}

@@ -3,10 +3,8 @@ package main
 import (
 	"context"
 	"errors"
-	"flag"
 	"fmt"
 	"io"
-	"os"
 	"strings"
 
 	"veneer/catalog"
@@ -19,9 +17,7 @@ import (
 // output, as a starting point to edit: the Direct Mapping that serve uses
 // without a mapping, written as R2RML.
 func runDraft(ctx context.Context, args []string, stdout, stderr io.Writer) error {
-	fs := flag.NewFlagSet("draft", flag.ContinueOnError)
-	fs.SetOutput(stderr)
-	c, rest, err := loadConfig("draft", args, os.Getenv, true, fs)
+	c, rest, err := commandConfig("draft", args, true, stderr)
 	if err != nil {
 		return err
 	}
@@ -31,7 +27,7 @@ func runDraft(ctx context.Context, args []string, stdout, stderr io.Writer) erro
 	sc := c.source()
 	switch {
 	case sc.DB == "":
-		return errors.New("draft: a database is required: --db, VENEER_DB or sources[0].db in the configuration")
+		return errNoDatabase("draft")
 	case len(sc.Mappings) > 0:
 		return errors.New("draft: --mapping does not apply: draft writes a new mapping from the schema")
 	}

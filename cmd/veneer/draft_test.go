@@ -12,23 +12,7 @@ import (
 	"veneer/catalog/r2rml"
 	"veneer/catalog/rdf"
 	"veneer/catalog/source"
-	"veneer/cmd/veneer/demo"
 )
-
-// demoSource builds the demo database in a temporary file and opens it.
-func demoSource(t *testing.T) (string, source.Source) {
-	t.Helper()
-	path := filepath.Join(t.TempDir(), "windfarm.db")
-	if err := demo.BuildSQLite(context.Background(), path); err != nil {
-		t.Fatal(err)
-	}
-	src, err := source.Open(context.Background(), "sqlite:"+path)
-	if err != nil {
-		t.Fatal(err)
-	}
-	t.Cleanup(func() { src.Close() })
-	return "sqlite:" + path, src
-}
 
 // TestDraftDemo drafts a mapping of the demo database and compares the text
 // with testdata/draft-demo.golden.ttl; loaded back, the draft must give the

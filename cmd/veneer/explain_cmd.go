@@ -3,7 +3,6 @@ package main
 import (
 	"context"
 	"errors"
-	"flag"
 	"fmt"
 	"io"
 	"os"
@@ -16,9 +15,7 @@ import (
 // and the operators that run in-process. The query is the argument, or with
 // a leading '@' the file it names ("@-" for standard input).
 func runExplain(ctx context.Context, args []string, stdout, stderr io.Writer) error {
-	fs := flag.NewFlagSet("explain", flag.ContinueOnError)
-	fs.SetOutput(stderr)
-	c, rest, err := loadConfig("explain", args, os.Getenv, true, fs)
+	c, rest, err := commandConfig("explain", args, true, stderr)
 	if err != nil {
 		return err
 	}
@@ -31,7 +28,7 @@ func runExplain(ctx context.Context, args []string, stdout, stderr io.Writer) er
 	}
 	sc := c.source()
 	if sc.DB == "" {
-		return errors.New("explain: a database is required: --db, VENEER_DB or sources[0].db in the configuration")
+		return errNoDatabase("explain")
 	}
 	src, err := openSource(ctx, sc)
 	if err != nil {

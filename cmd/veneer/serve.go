@@ -3,7 +3,6 @@ package main
 import (
 	"context"
 	"errors"
-	"flag"
 	"fmt"
 	"io"
 	"log/slog"
@@ -32,9 +31,7 @@ const defaultListen = "127.0.0.1:7531"
 const defaultBase = "http://veneer.example/db/"
 
 func runServe(ctx context.Context, args []string, stdout, stderr io.Writer) error {
-	fs := flag.NewFlagSet("serve", flag.ContinueOnError)
-	fs.SetOutput(stderr)
-	c, rest, err := loadConfig("serve", args, os.Getenv, true, fs)
+	c, rest, err := commandConfig("serve", args, true, stderr)
 	if err != nil {
 		return err
 	}
@@ -43,7 +40,7 @@ func runServe(ctx context.Context, args []string, stdout, stderr io.Writer) erro
 	}
 	sc := c.source()
 	if sc.DB == "" {
-		return errors.New("serve: a database is required: --db, VENEER_DB or sources[0].db in the configuration")
+		return errNoDatabase("serve")
 	}
 	src, err := openSource(ctx, sc)
 	if err != nil {

@@ -55,6 +55,13 @@ func startServer(t *testing.T, src source.Source, load func(context.Context) (*c
 // startDemo serves the demo database.
 func startDemo(t *testing.T, edit func(*config)) string {
 	t.Helper()
+	_, src := demoSource(t)
+	return startServer(t, src, demoCatalog, edit)
+}
+
+// demoSource builds the demo database in a temporary file and opens it.
+func demoSource(t *testing.T) (string, source.Source) {
+	t.Helper()
 	path := filepath.Join(t.TempDir(), "windfarm.db")
 	if err := demo.BuildSQLite(context.Background(), path); err != nil {
 		t.Fatal(err)
@@ -64,7 +71,7 @@ func startDemo(t *testing.T, edit func(*config)) string {
 		t.Fatal(err)
 	}
 	t.Cleanup(func() { src.Close() })
-	return startServer(t, src, demoCatalog, edit)
+	return "sqlite:" + path, src
 }
 
 // readBoolean reads the answer of an ASK query in the SPARQL 1.1 Query
@@ -77,6 +84,8 @@ func readBoolean(body []byte) (bool, error) {
 	return *doc.Boolean, nil
 }
 
+// firstLine is the first line of a response body, cut to 200 bytes, for a
+// message.
 func firstLine(s string) string {
 	s, _, _ = strings.Cut(s, "\n")
 	if len(s) > 200 {

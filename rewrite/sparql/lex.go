@@ -280,13 +280,13 @@ func lexIRIOrLess(l *lexer) stateFn {
 			l.emit(tokIRI, b.String(), "")
 			return lexAny
 		}
-		if r < 0 || (!esc && (r <= 0x20 || strings.ContainsRune("<\"{}|^`\\", r))) {
+		if r < 0 || (!esc && !rdf.IsIRIChar(r)) {
 			break
 		}
 		if msg, ok := l.checkRune(at, r, w, esc); !ok {
 			return l.errorf(at, "%s", msg)
 		}
-		if esc && (r <= 0x20 || strings.ContainsRune("<>\"{}|^`\\", r)) {
+		if esc && !rdf.IsIRIChar(r) {
 			return l.errorf(at, "the escape %s stands for a character that is not allowed in an IRI", l.src[at:at+w])
 		}
 		b.WriteRune(r)
@@ -327,7 +327,7 @@ func lexString(l *lexer) stateFn {
 			}
 		case r == '\\':
 			c := l.byteAt(at + 1)
-			v, ok := echar(c)
+			v, ok := rdf.EscapedChar(rune(c))
 			if !ok {
 				return l.errorf(at, "invalid escape sequence in string: \\%c", c)
 			}
@@ -344,24 +344,6 @@ func lexString(l *lexer) stateFn {
 		b.WriteRune(r)
 		at += w
 	}
-}
-
-func echar(c byte) (byte, bool) {
-	switch c {
-	case 't':
-		return '\t', true
-	case 'b':
-		return '\b', true
-	case 'n':
-		return '\n', true
-	case 'r':
-		return '\r', true
-	case 'f':
-		return '\f', true
-	case '"', '\'', '\\':
-		return c, true
-	}
-	return 0, false
 }
 
 // lexVar scans a variable, or the path modifier '?' when no name follows.

@@ -192,9 +192,7 @@ func (s termSyntax) appendIRI(dst []byte, iri rdf.IRI) ([]byte, error) {
 // Such a character cannot be in an IRI at all (RFC 3987 §2.2), and a reader
 // refuses it even as a UCHAR escape, so the writers refuse it too instead of
 // writing a document that cannot be read.
-func notInIRIRef(r rune) bool {
-	return r <= 0x20 || strings.ContainsRune("<>\"{}|^`\\", r)
-}
+func notInIRIRef(r rune) bool { return !rdf.IsIRIChar(r) }
 
 // prefixed finds the longest prefix IRI that iri starts with and whose rest of
 // iri is a local name that needs no escapes.
