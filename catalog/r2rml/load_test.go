@@ -201,19 +201,24 @@ func TestLoadGolden(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	got := dump(cat)
-	golden := filepath.Join("testdata", "windfarm.golden")
+	checkGolden(t, filepath.Join("testdata", "windfarm.golden"), dump(cat))
+}
+
+// checkGolden compares got with the golden file at path, which go test -update
+// rewrites.
+func checkGolden(t *testing.T, path, got string) {
+	t.Helper()
 	if *update {
-		if err := os.WriteFile(golden, []byte(got), 0o644); err != nil {
+		if err := os.WriteFile(path, []byte(got), 0o644); err != nil {
 			t.Fatal(err)
 		}
 	}
-	want, err := os.ReadFile(golden)
+	want, err := os.ReadFile(path)
 	if err != nil {
 		t.Fatal(err)
 	}
 	if got != string(want) {
-		t.Errorf("catalog differs from %s (run go test -update and review the diff):\n%s", golden, got)
+		t.Errorf("output differs from %s (run go test -update and read the diff):\n%s", path, got)
 	}
 }
 

@@ -148,19 +148,7 @@ func TestWriteGolden(t *testing.T) {
 	if got, want := shape(back, true), shape(cat, true); got != want {
 		t.Errorf("the written mapping reads back differently:\ngot:\n%s\nwant:\n%s", got, want)
 	}
-	path := filepath.Join("testdata", "windfarm.written.ttl")
-	if *update {
-		if err := os.WriteFile(path, []byte(text), 0o644); err != nil {
-			t.Fatal(err)
-		}
-	}
-	want, err := os.ReadFile(path)
-	if err != nil {
-		t.Fatal(err)
-	}
-	if text != string(want) {
-		t.Errorf("written mapping differs from %s (run go test -update and read the diff):\n%s", path, text)
-	}
+	checkGolden(t, filepath.Join("testdata", "windfarm.written.ttl"), text)
 }
 
 func TestWriteErrors(t *testing.T) {
