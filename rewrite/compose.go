@@ -686,15 +686,7 @@ func (q *query) sameRowBranch(a, rb *branch, rt, extra *sql.Table, expr algebra.
 				if readsTable(o, extra.Alias) {
 					continue // NULL through the outer join when nothing matched
 				}
-				exprs := make([]sql.Expr, len(o.exprs))
-				for i, e := range o.exprs {
-					exprs[i] = sql.Case{When: matched, Then: e}
-				}
-				o.exprs = exprs
-				if o.m.Kind == catalog.Constant {
-					o.marker = sql.Case{When: matched, Then: sql.Int(1)}
-				}
-				nb.vars[v] = binding{alts: []occurrence{o}, nullable: true}
+				nb.vars[v] = binding{alts: []occurrence{onlyWhen(o, matched)}, nullable: true}
 			}
 			return nb, true
 		}
@@ -704,19 +696,25 @@ func (q *query) sameRowBranch(a, rb *branch, rt, extra *sql.Table, expr algebra.
 			if all == nil || sameConds(all, o.active()) {
 				continue // its own columns being set is all the part requires
 			}
-			exprs := make([]sql.Expr, len(o.exprs))
-			for i, e := range o.exprs {
-				exprs[i] = sql.Case{When: all, Then: e}
-			}
-			o.exprs = exprs
-			if o.m.Kind == catalog.Constant {
-				o.marker = sql.Case{When: all, Then: sql.Int(1)}
-			}
-			nb.vars[v] = binding{alts: []occurrence{o}, nullable: true}
+			nb.vars[v] = binding{alts: []occurrence{onlyWhen(o, all)}, nullable: true}
 		}
 		return nb, true
 	}
 	return nil, false
+}
+
+// onlyWhen makes an occurrence yield its term only when cond holds (NULL, so
+// unbound, otherwise).
+func onlyWhen(o occurrence, cond sql.Expr) occurrence {
+	exprs := make([]sql.Expr, len(o.exprs))
+	for i, e := range o.exprs {
+		exprs[i] = sql.Case{When: cond, Then: e}
+	}
+	o.exprs = exprs
+	if o.m.Kind == catalog.Constant {
+		o.marker = sql.Case{When: cond, Then: sql.Int(1)}
+	}
+	return o
 }
 
 // sameConds compares two conditions by their printed form.
