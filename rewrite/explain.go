@@ -78,6 +78,12 @@ func explainOp(b *strings.Builder, op Op, depth int) {
 	case *PerGraph:
 		line("in-process: for each named graph ?%s, %s", op.Var, "the pattern planned in that graph")
 		explainOp(b, op.Names, depth+1)
+	case *Service:
+		silent := ""
+		if op.Silent {
+			silent = " (silent)"
+		}
+		line("remote SERVICE %s%s", op.Endpoint, silent)
 	case *Distinct:
 		line("in-process distinct")
 		explainOp(b, op.Input, depth+1)

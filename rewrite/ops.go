@@ -110,6 +110,20 @@ type PerGraph struct {
 	Input algebra.Node
 }
 
+// Service sends a SELECT * over Pattern (a group graph pattern as SPARQL text)
+// to the SPARQL endpoint Endpoint and yields the solutions it answers (SPARQL
+// 1.1 Federated Query). As the right input of a Join it is
+// a bind join: the executor evaluates the left input first and sends the
+// distinct bindings of the variables both sides share along with the query,
+// as VALUES. Vars are the variables the pattern binds. A Silent service that
+// fails yields the single empty solution instead of an error.
+type Service struct {
+	Endpoint rdf.IRI
+	Silent   bool
+	Pattern  string
+	Vars     []algebra.Var
+}
+
 // Distinct removes duplicate solutions.
 type Distinct struct{ Input Op }
 
@@ -133,6 +147,7 @@ var (
 	_ Op = (*Project)(nil)
 	_ Op = (*Path)(nil)
 	_ Op = (*PerGraph)(nil)
+	_ Op = (*Service)(nil)
 	_ Op = (*Distinct)(nil)
 	_ Op = (*Slice)(nil)
 )
@@ -150,5 +165,6 @@ func (*Order) op()    {}
 func (*Project) op()  {}
 func (*Path) op()     {}
 func (*PerGraph) op() {}
+func (*Service) op()  {}
 func (*Distinct) op() {}
 func (*Slice) op()    {}

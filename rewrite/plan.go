@@ -194,6 +194,18 @@ func (q *query) op(n algebra.Node, graph algebra.Item) (Op, error) {
 		}
 		return &Extend{Input: in, Var: n.Var, Expr: n.Expr}, nil
 	case algebra.Join:
+		if s, ok := n.Right.(algebra.Service); ok {
+			// A bind join: the service hears the left side's bindings.
+			svc, err := service(s)
+			if err != nil {
+				return nil, err
+			}
+			l, err := q.op(n.Left, graph)
+			if err != nil {
+				return nil, err
+			}
+			return &Join{Left: l, Right: svc}, nil
+		}
 		l, r, err := q.pair(n.Left, n.Right, graph)
 		if err != nil {
 			return nil, err
@@ -278,9 +290,26 @@ func (q *query) op(n algebra.Node, graph algebra.Item) (Op, error) {
 		}
 		return &Path{S: n.S, O: n.O, Path: n.Path, Graph: graph}, nil
 	case algebra.Service:
-		return nil, &Unsupported{What: "SERVICE"}
+		return service(n)
 	}
 	return nil, &Unsupported{What: fmt.Sprintf("the algebra operator %T", n)}
+}
+
+// service plans SERVICE <iri> { ... }. The remote endpoint has its own
+// dataset: the graph context does not reach it.
+func service(n algebra.Service) (Op, error) {
+	c, ok := n.Endpoint.(algebra.Const)
+	iri, isIRI := c.Term.(rdf.IRI)
+	if !ok || !isIRI {
+		return nil, &Unsupported{What: "SERVICE with a variable endpoint"}
+	}
+	s := &Service{Endpoint: iri, Silent: n.Silent, Pattern: n.Pattern}
+	for _, v := range algebra.InScope(n.Input) {
+		if !v.Hidden() {
+			s.Vars = append(s.Vars, v)
+		}
+	}
+	return s, nil
 }
 
 // averages plans a grouping whose only obstacle to SQL is AVG: each AVG(x)

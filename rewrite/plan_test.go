@@ -7,6 +7,7 @@ import (
 	"flag"
 	"os"
 	"path/filepath"
+	"slices"
 	"strings"
 	"testing"
 
@@ -16,6 +17,7 @@ import (
 	"veneer/catalog/r2rml"
 	"veneer/catalog/source"
 	"veneer/rewrite"
+	"veneer/rewrite/algebra"
 )
 
 var update = flag.Bool("update", false, "rewrite the golden files")
@@ -96,9 +98,40 @@ func TestPlansGolden(t *testing.T) {
 
 func TestUnsupportedIsNamed(t *testing.T) {
 	pl := planner(t, source.SQLite)
-	_, err := pl.Compile(`SELECT * WHERE { SERVICE <http://elsewhere.example/sparql> { ?s ?p ?o } }`)
-	if err == nil || !strings.Contains(err.Error(), "SERVICE") {
-		t.Errorf("err = %v, want one naming SERVICE", err)
+	_, err := pl.Compile(`SELECT * WHERE { SERVICE ?where { ?s ?p ?o } }`)
+	if err == nil || !strings.Contains(err.Error(), "SERVICE with a variable endpoint") {
+		t.Errorf("err = %v, want one naming SERVICE with a variable endpoint", err)
+	}
+}
+
+// TestServicePlan checks that SERVICE on the right of a join is planned as a
+// bind join whose pattern text needs no prologue.
+func TestServicePlan(t *testing.T) {
+	pl := planner(t, source.SQLite)
+	p, err := pl.Compile(`PREFIX ex: <http://x.example/> SELECT * WHERE { ?s ?p ?o .
+		SERVICE SILENT <http://elsewhere.example/sparql> { ?s ex:q ?v FILTER (?v > 1) } }`)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var join *rewrite.Join
+	for op := p.Root; join == nil; {
+		switch o := op.(type) {
+		case *rewrite.Project:
+			op = o.Input
+		case *rewrite.Join:
+			join = o
+		default:
+			t.Fatalf("plan root %T, want a Join under a projection", op)
+		}
+	}
+	svc, ok := join.Right.(*rewrite.Service)
+	if !ok {
+		t.Fatalf("right of the join is %T, want *rewrite.Service", join.Right)
+	}
+	if svc.Endpoint != "http://elsewhere.example/sparql" || !svc.Silent ||
+		!strings.Contains(svc.Pattern, "<http://x.example/q>") || strings.Contains(svc.Pattern, "ex:") ||
+		!slices.Equal(svc.Vars, []algebra.Var{"s", "v"}) {
+		t.Errorf("service %+v", svc)
 	}
 }
 

@@ -65,6 +65,9 @@ func problemOf(err error) *problem {
 		return &problem{status: http.StatusServiceUnavailable, msg: "the query ran past its time limit; ask for less or narrow the query", err: err}
 	case exec.Unavailable:
 		return &problem{status: http.StatusServiceUnavailable, msg: "the database is unavailable", retryAfter: time.Second, err: err}
+	case exec.Remote:
+		// The message names the endpoint and what it did, nothing of ours.
+		return &problem{status: http.StatusBadGateway, msg: err.Error(), err: err}
 	case exec.Canceled:
 		return &problem{status: statusCanceled, msg: "the request was canceled", err: err}
 	}

@@ -9,6 +9,7 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"net"
 	"net/http"
 	"net/url"
 	"os"
@@ -317,19 +318,46 @@ func TestFederatedQuery(t *testing.T) {
 	federate(t, pgDSN, myDSN)
 }
 
+// TestFederatedQuerySQLite is the federation check over two copies of the
+// demo database in SQLite, for machines without the two servers.
+func TestFederatedQuerySQLite(t *testing.T) {
+	needNode(t)
+	a, _ := demoSource(t)
+	b, _ := demoSource(t)
+	federate(t, a, b)
+}
+
+// freeAddr returns a loopback address with a port free at the moment.
+func freeAddr(t *testing.T) string {
+	t.Helper()
+	l, err := net.Listen("tcp", "127.0.0.1:0")
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer l.Close()
+	return l.Addr().String()
+}
+
 // federate runs the federation check over two sources given by DSN.
 func federate(t *testing.T, dsnA, dsnB string) {
 	t.Helper()
 	known := readList(t, "clients-known-failures.txt")
 	dir := npmInstall(t, "federation")
+	// The engine hands the whole query to the first endpoint, which calls
+	// both with SERVICE: each instance allows both, so their addresses are
+	// chosen before they start.
+	addrs := []string{freeAddr(t), freeAddr(t)}
 	var endpoints []string
-	for _, dsn := range []string{dsnA, dsnB} {
+	for _, a := range addrs {
+		endpoints = append(endpoints, "http://"+a+"/sparql")
+	}
+	for i, dsn := range []string{dsnA, dsnB} {
 		src, err := openSource(context.Background(), &sourceConf{DB: dsn})
 		if err != nil {
 			t.Fatal(err)
 		}
 		t.Cleanup(func() { src.Close() })
-		endpoints = append(endpoints, startServer(t, src, demoCatalog, nil))
+		startServer(t, src, demoCatalog, func(c *config) { c.Listen = addrs[i]; c.Service.Allow = endpoints })
 	}
 	single := prefixes + `SELECT ?serial ?kw WHERE { ?t wf:serialNumber ?serial ; wf:ratedPowerKW ?kw }`
 	federated := prefixes + `SELECT ?serial ?kw WHERE {

@@ -7,11 +7,13 @@ import (
 	"fmt"
 	"io"
 	"log/slog"
+	"net/url"
 	"os"
 	"strconv"
 	"strings"
 	"time"
 	"veneer/rewrite"
+	"veneer/rewrite/exec"
 
 	"go.yaml.in/yaml/v3"
 
@@ -32,6 +34,7 @@ type config struct {
 	CORS           corsConf      `yaml:"cors"`
 	TLS            tlsConf       `yaml:"tls"`
 	Log            logConf       `yaml:"log"`
+	Service        serviceConf   `yaml:"service"`
 	TrustForwarded bool          `yaml:"trust_forwarded"`
 	DrainTimeout   time.Duration `yaml:"drain_timeout"`
 }
@@ -75,6 +78,14 @@ type tlsConf struct {
 	Key  string `yaml:"key"`
 }
 
+// serviceConf governs the SERVICE calls queries make to other endpoints:
+// Allow lists the endpoint IRIs that may be called (none: SERVICE is off).
+type serviceConf struct {
+	Allow    []string      `yaml:"allow"`
+	Timeout  time.Duration `yaml:"timeout"`
+	MaxBytes int64         `yaml:"max_bytes"`
+}
+
 type logConf struct {
 	Level     string        `yaml:"level"`
 	Format    string        `yaml:"format"`
@@ -101,6 +112,7 @@ func defaultConfig() config {
 			MaxTables:     int64(rewrite.DefaultLimits().MaxTables),
 		},
 		Log:          logConf{Level: "info", Format: "json", SlowQuery: d.SlowQuery},
+		Service:      serviceConf{Timeout: exec.DefaultServiceTimeout, MaxBytes: exec.DefaultServiceMaxBytes},
 		DrainTimeout: d.DrainTimeout,
 	}
 }
@@ -168,6 +180,13 @@ var options = []option{
 		set: boolean(func(c *config) *bool { return &c.TrustForwarded })},
 	{flag: "drain-timeout", env: "VENEER_DRAIN_TIMEOUT", usage: "time running queries get to finish at shutdown (YAML drain_timeout)",
 		set: dur(func(c *config) *time.Duration { return &c.DrainTimeout })},
+	{flag: "service-allow", env: "VENEER_SERVICE_ALLOW", list: true,
+		usage: "endpoint IRI that SERVICE in queries may call, repeatable; none turns SERVICE off (YAML service.allow)",
+		set:   func(c *config, v []string) error { c.Service.Allow = v; return nil }},
+	{flag: "service-timeout", env: "VENEER_SERVICE_TIMEOUT", usage: "time limit of one SERVICE call (YAML service.timeout)",
+		set: dur(func(c *config) *time.Duration { return &c.Service.Timeout })},
+	{flag: "service-max-bytes", env: "VENEER_SERVICE_MAX_BYTES", usage: "largest SERVICE answer read, in bytes (YAML service.max_bytes)",
+		set: int64s(func(c *config) *int64 { return &c.Service.MaxBytes })},
 	{flag: "log-level", env: "VENEER_LOG_LEVEL", usage: "debug, info, warn or error (YAML log.level)",
 		set: str(func(c *config) *string { return &c.Log.Level })},
 	{flag: "log-format", env: "VENEER_LOG_FORMAT", usage: "json or text (YAML log.format)",
@@ -337,6 +356,13 @@ func (c *config) check() error {
 		return fmt.Errorf("limits: max_unions and max_tables must be at least 1")
 	case c.Limits.MaxConcurrent < 0 || c.Limits.MaxQueued < 0 || c.Limits.MaxRows < 0:
 		return errors.New("limits cannot be negative")
+	case c.Service.Timeout < 0 || c.Service.MaxBytes < 0:
+		return errors.New("service: timeout and max_bytes cannot be negative")
+	}
+	for _, iri := range c.Service.Allow {
+		if u, err := url.Parse(iri); err != nil || (u.Scheme != "http" && u.Scheme != "https") || u.Host == "" {
+			return fmt.Errorf("service.allow: %q is not an http or https IRI", iri)
+		}
 	}
 	if _, err := c.level(); err != nil {
 		return err
@@ -374,6 +400,11 @@ func (c *config) tokens(getenv func(string) string) (*server.Tokens, error) {
 		toks = append(toks, more...)
 	}
 	return server.NewTokens(toks...), nil
+}
+
+// execOptions are the evaluator's options the configuration sets.
+func (c *config) execOptions() exec.Options {
+	return exec.Options{ServiceAllow: c.Service.Allow, ServiceTimeout: c.Service.Timeout, ServiceMaxBytes: c.Service.MaxBytes}
 }
 
 // plannerLimits are the planner's limits the configuration sets.

@@ -136,6 +136,7 @@ func serve(ctx context.Context, c *config, src source.Source, load func(context.
 			return nil, nil, err
 		}
 		e.Planner.SetLimits(c.plannerLimits())
+		e.Options = c.execOptions()
 		return server.FromExec(e), cat, nil
 	}
 	build := func(ctx context.Context) (server.Engine, error) {

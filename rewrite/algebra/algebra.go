@@ -109,11 +109,13 @@ type Values struct {
 // the empty table when Empty is true.
 type Table struct{ Empty bool }
 
-// Service evaluates Input at a remote SPARQL endpoint.
+// Service evaluates Input at a remote SPARQL endpoint. Pattern is Input as
+// the text sent there: a group { ... } that needs no prologue.
 type Service struct {
 	Endpoint Item
 	Silent   bool
 	Input    Node
+	Pattern  string
 }
 
 // GroupKey is one GROUP BY condition; Var is set when the condition was written

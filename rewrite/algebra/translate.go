@@ -450,7 +450,8 @@ func (t *translator) group(g *sparql.GroupPattern) Node {
 		case *sparql.Graph:
 			g0 = join(g0, Graph{Name: t.item(e.Name), Input: t.group(e.Pattern)})
 		case *sparql.Service:
-			g0 = join(g0, Service{Endpoint: t.item(e.Name), Silent: e.Silent, Input: t.group(e.Pattern)})
+			g0 = join(g0, Service{Endpoint: t.item(e.Name), Silent: e.Silent, Input: t.group(e.Pattern),
+				Pattern: sparql.GroupString(e.Pattern)})
 		case *sparql.InlineData:
 			g0 = join(g0, t.values(e.Values))
 		}

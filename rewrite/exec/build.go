@@ -85,7 +85,12 @@ func (b *builder) build(op rewrite.Op) (node, error) {
 	case *rewrite.Extend:
 		return b.extend(op)
 	case *rewrite.Join:
+		if svc, ok := op.Right.(*rewrite.Service); ok {
+			return b.service(op.Left, svc)
+		}
 		return b.join(op.Left, op.Right, joinInner, nil)
+	case *rewrite.Service:
+		return b.service(nil, op)
 	case *rewrite.LeftJoin:
 		return b.join(op.Left, op.Right, joinLeft, op.Expr)
 	case *rewrite.Minus:

@@ -52,6 +52,8 @@ const (
 	Canceled
 	Unavailable
 	TooLarge
+	// Remote is the failure of a SERVICE endpoint veneer called.
+	Remote
 )
 
 // Error is a failure with its kind.

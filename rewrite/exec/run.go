@@ -32,6 +32,15 @@ type Options struct {
 	// Now fixes the value of NOW(); the zero time means the moment the run
 	// starts.
 	Now time.Time
+	// ServiceAllow lists the endpoints SERVICE may call, as full IRIs that an
+	// endpoint must equal exactly; none means SERVICE is off.
+	ServiceAllow []string
+	// ServiceTimeout bounds one call to a SERVICE endpoint; the query's own
+	// deadline bounds it too. Zero means DefaultServiceTimeout.
+	ServiceTimeout time.Duration
+	// ServiceMaxBytes bounds the size of one SERVICE answer; a larger one is a
+	// TooLarge error. Zero means DefaultServiceMaxBytes.
+	ServiceMaxBytes int64
 }
 
 // patternPlanner plans the graph patterns that evaluation meets on the way: an
@@ -62,6 +71,10 @@ type run struct {
 
 	regexps map[string]*compiledRegexp
 
+	services       map[rdf.IRI]bool // the endpoints SERVICE may call
+	serviceTimeout time.Duration
+	serviceMax     int64
+
 	residual int64
 }
 
@@ -69,6 +82,17 @@ func newRun(ctx context.Context, src source.Source, pp patternPlanner, o Options
 	r := &run{ctx: ctx, src: src, planner: pp, limit: o.MaxBuffered}
 	if r.limit <= 0 {
 		r.limit = DefaultMaxBuffered
+	}
+	r.services = map[rdf.IRI]bool{}
+	for _, iri := range o.ServiceAllow {
+		r.services[rdf.IRI(iri)] = true
+	}
+	r.serviceTimeout, r.serviceMax = o.ServiceTimeout, o.ServiceMaxBytes
+	if r.serviceTimeout <= 0 {
+		r.serviceTimeout = DefaultServiceTimeout
+	}
+	if r.serviceMax <= 0 {
+		r.serviceMax = DefaultServiceMaxBytes
 	}
 	if o.Base != "" {
 		b, err := url.Parse(o.Base)

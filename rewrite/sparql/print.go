@@ -15,9 +15,19 @@ func (q *Query) String() string {
 	return pr.b.String()
 }
 
+// GroupString prints a group graph pattern as SPARQL text that stands on its
+// own: prefixed names are written as full IRIs, so no prologue is needed.
+func GroupString(g *GroupPattern) string {
+	pr := &printer{full: true}
+	pr.group(g)
+	return pr.b.String()
+}
+
 type printer struct {
 	b     strings.Builder
 	depth int
+	// full writes prefixed names as full IRIs.
+	full bool
 }
 
 func (pr *printer) w(ss ...string) {
@@ -433,6 +443,10 @@ func (pr *printer) iri(i *IRI) {
 	case IRIKeywordA:
 		pr.w("a")
 	case IRIPrefixed:
+		if pr.full {
+			pr.w(iriRef(i.IRI))
+			return
+		}
 		pr.w(i.Prefix, ":", escapeLocal(i.Local))
 	default:
 		pr.w(iriRef(i.IRI))

@@ -132,3 +132,29 @@ func FuzzParse(f *testing.F) {
 		roundTrip(t, "fuzz input", src, "http://example.org/base/")
 	})
 }
+
+// TestGroupString checks that a group printed on its own spells out prefixed
+// names (the text must parse without the query's prologue) and reads back as
+// the same group.
+func TestGroupString(t *testing.T) {
+	for _, c := range []struct{ query, want string }{
+		{`PREFIX ex: <http://x.example/> SELECT * { ?s ex:p "1"^^ex:t ; a ex:C FILTER (ex:f(?s)) }`,
+			"{\n  ?s <http://x.example/p> \"1\"^^<http://x.example/t> ; a <http://x.example/C> .\n  FILTER (<http://x.example/f>(?s))\n}"},
+		{`BASE <http://x.example/a/> SELECT * { ?s <b> ?o }`, "{\n  ?s <http://x.example/a/b> ?o .\n}"},
+	} {
+		q, err := sparql.Parse(c.query)
+		if err != nil {
+			t.Fatal(err)
+		}
+		got := sparql.GroupString(q.Where)
+		if got != c.want {
+			t.Errorf("%s:\ngot  %q\nwant %q", c.query, got, c.want)
+		}
+		back, err := sparql.Parse("SELECT * WHERE " + got)
+		if err != nil {
+			t.Errorf("%s: the printed group does not parse alone: %v", c.query, err)
+		} else if again := sparql.GroupString(back.Where); again != got {
+			t.Errorf("%s: read back as %q", c.query, again)
+		}
+	}
+}
