@@ -2,6 +2,7 @@ package rewrite
 
 import (
 	"fmt"
+	"veneer/catalog/rdf"
 
 	"veneer/catalog"
 	"veneer/catalog/source"
@@ -735,4 +736,53 @@ func readsTable(o occurrence, alias string) bool {
 		})
 	}
 	return found
+}
+
+// prefilter narrows a relation to the rows whose variables hold values that
+// inline data names, for each variable the data binds in every row (UNDEF
+// matches anything, so a variable with UNDEF narrows nothing) and that every
+// branch binds with one term map. It keeps rows the join may still reject,
+// never drops one it would keep; false when no variable narrows anything.
+func (q *query) prefilter(r *rel, vals algebra.Values) bool {
+	narrowed := false
+	for i, v := range vals.Vars {
+		var terms []rdf.Term
+		seen := map[string]bool{}
+		usable := true
+		for _, row := range vals.Rows {
+			if row[i] == nil {
+				usable = false
+				break
+			}
+			if k := row[i].String(); !seen[k] {
+				seen[k] = true
+				terms = append(terms, row[i])
+			}
+		}
+		for _, b := range r.branches {
+			usable = usable && b.vars[v].solid()
+		}
+		if !usable {
+			continue
+		}
+		var kept []*branch
+		for _, b := range r.branches {
+			var rows [][]sql.Expr
+			for _, t := range terms {
+				if conds, ok := q.constConds(b.vars[v].alts[0], t); ok {
+					rows = append(rows, conds)
+				}
+			}
+			if len(rows) == 0 {
+				continue // no value of the data fits this branch
+			}
+			if cond := rowsCondition(rows); cond != nil {
+				b.where = append(b.where, cond)
+			}
+			kept = append(kept, b)
+		}
+		r.branches = kept
+		narrowed = true
+	}
+	return narrowed
 }

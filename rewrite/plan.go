@@ -206,6 +206,20 @@ func (q *query) op(n algebra.Node, graph algebra.Item) (Op, error) {
 			}
 			return &Join{Left: l, Right: svc}, nil
 		}
+		if vals, other, ok := valuesSide(n); ok {
+			// Data SQL cannot join exactly (UNDEF, repeated rows, variables the
+			// pattern does not bind) still narrows the scan: the in-process join
+			// then sees only rows whose values the data names.
+			if r, mod, err := q.relation(other, graph); err != nil {
+				return nil, err
+			} else if r != nil && plain(mod) && q.prefilter(r, vals) {
+				scan, err := q.scan(r, mod)
+				if err != nil {
+					return nil, err
+				}
+				return &Join{Left: &Values{Vars: vals.Vars, Rows: vals.Rows}, Right: scan}, nil
+			}
+		}
 		l, r, err := q.pair(n.Left, n.Right, graph)
 		if err != nil {
 			return nil, err
