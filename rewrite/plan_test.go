@@ -24,7 +24,7 @@ var update = flag.Bool("update", false, "rewrite the golden files")
 
 // planner builds a planner over testdata/schema.sql and testdata/mapping.ttl,
 // probing the columns on a real SQLite file.
-func planner(t *testing.T, d source.Dialect) *rewrite.Planner {
+func planner(t testing.TB, d source.Dialect) *rewrite.Planner {
 	t.Helper()
 	path := filepath.Join(t.TempDir(), "plan.db")
 	db, err := sql.Open("sqlite", path)
