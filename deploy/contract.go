@@ -133,6 +133,8 @@ var Metrics = []Metric{
 	{"veneer_stream_failures_total", Counter, nil},
 	{"veneer_row_limit_exceeded_total", Counter, nil},
 	{"veneer_catalog_reloads_total", Counter, []string{"result"}},
+	{"veneer_translate_duration_seconds", Histogram, nil},
+	{"veneer_plan_cache_lookups_total", Counter, []string{"result"}},
 	{"veneer_db_connections_open", Gauge, []string{"source"}},
 	{"veneer_db_connections_in_use", Gauge, []string{"source"}},
 	{"veneer_db_connections_idle", Gauge, []string{"source"}},

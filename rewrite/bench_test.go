@@ -191,3 +191,40 @@ func BenchmarkCompileMix(b *testing.B) {
 		b.Run(q.Name, func(b *testing.B) { benchCompile(b, pl, q.SPARQL) })
 	}
 }
+
+// BenchmarkCompileShape times the translation of federation sub-queries that
+// differ only in the 16 rows of their VALUES block: planned one by one
+// (fresh), and through the plan cache, which from a shape's second query on
+// binds each query's data into the shape's plan (shape).
+func BenchmarkCompileShape(b *testing.B) {
+	pl := demoPlanner(b)
+	query := func(i int) string {
+		var rows strings.Builder
+		for r := range 16 {
+			fmt.Fprintf(&rows, `(<https://data.veneer.example/windfarm/work-order/WO-2023-%07d> "%d"^^xsd:string) `, i*16+r, r)
+		}
+		return `PREFIX wf: <https://vocab.veneer.example/windfarm#>
+PREFIX xsd: <http://www.w3.org/2001/XMLSchema#>
+SELECT ?wo ?tag ?status WHERE { VALUES (?wo ?tag) { ` + rows.String() + `} { ?wo wf:status ?status . FILTER(?status != "closed") } }`
+	}
+	b.Run("fresh", func(b *testing.B) {
+		b.ReportAllocs()
+		i := 0
+		for b.Loop() {
+			i++
+			if _, err := pl.CompileFresh(query(i)); err != nil {
+				b.Fatal(err)
+			}
+		}
+	})
+	b.Run("shape", func(b *testing.B) {
+		b.ReportAllocs()
+		i := 0
+		for b.Loop() {
+			i++
+			if _, err := pl.Compile(query(i)); err != nil {
+				b.Fatal(err)
+			}
+		}
+	})
+}

@@ -4,13 +4,12 @@ import (
 	"container/list"
 	"strings"
 	"sync"
-
-	"veneer/rewrite/algebra"
 )
 
-// planCache remembers the plans of recent requests: dashboards and federation
-// engines send the same texts again and again, and a plan is immutable, so it
-// can serve every later run of its request.
+// planCache remembers the plans of recent requests, by text and by shape
+// (see CompileRequest): dashboards and federation engines send the same
+// texts and shapes again and again, and a plan is immutable, so it can serve
+// every later run of its request.
 type planCache struct {
 	mu    sync.Mutex
 	max   int
@@ -19,9 +18,8 @@ type planCache struct {
 }
 
 type cached struct {
-	key   string
-	plan  *Plan
-	query *algebra.Query
+	key  string
+	plan *Plan
 }
 
 func newPlanCache(max int) *planCache {
@@ -49,26 +47,29 @@ func requestKey(r Request) string {
 	return b.String()
 }
 
-func (c *planCache) get(key string) (*Plan, *algebra.Query, bool) {
+// get returns the plan kept under key, and whether the key is known (a shape
+// seen once is kept with no plan).
+func (c *planCache) get(key string) (*Plan, bool) {
 	c.mu.Lock()
 	defer c.mu.Unlock()
 	e, ok := c.byKey[key]
 	if !ok {
-		return nil, nil, false
+		return nil, false
 	}
 	c.order.MoveToFront(e)
-	v := e.Value.(*cached)
-	return v.plan, v.query, true
+	return e.Value.(*cached).plan, true
 }
 
-func (c *planCache) put(key string, p *Plan, q *algebra.Query) {
+// put keeps p under key, in place of what the key held.
+func (c *planCache) put(key string, p *Plan) {
 	c.mu.Lock()
 	defer c.mu.Unlock()
 	if e, ok := c.byKey[key]; ok {
 		c.order.MoveToFront(e)
+		e.Value.(*cached).plan = p
 		return
 	}
-	c.byKey[key] = c.order.PushFront(&cached{key: key, plan: p, query: q})
+	c.byKey[key] = c.order.PushFront(&cached{key: key, plan: p})
 	for c.order.Len() > c.max {
 		last := c.order.Back()
 		c.order.Remove(last)

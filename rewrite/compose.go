@@ -2,9 +2,10 @@ package rewrite
 
 import (
 	"fmt"
-	"veneer/catalog/rdf"
+	"strings"
 
 	"veneer/catalog"
+	"veneer/catalog/rdf"
 	"veneer/catalog/source"
 	"veneer/rewrite/algebra"
 	"veneer/rewrite/sql"
@@ -472,51 +473,132 @@ func (q *query) restrict(r *rel, vals algebra.Values) bool {
 	// Conditions keep a row or not; they cannot repeat it. So the data must not
 	// let two of its rows join one row: no repeated rows, and no UNDEF (a row with
 	// UNDEF joins what a fuller row joins too).
-	seen := map[string]bool{}
-	for _, row := range vals.Rows {
-		key := ""
-		for _, t := range row {
-			if t == nil {
-				return false
-			}
-			key += t.String() + " "
-		}
-		if seen[key] {
-			return false
-		}
-		seen[key] = true
+	if !setLike(vals.Rows) {
+		return false
 	}
-	var kept []*branch
 	for _, b := range r.branches {
 		for _, v := range vals.Vars {
 			if !b.vars[v].solid() {
 				return false
 			}
 		}
-		var rows [][]sql.Expr
-		for _, row := range vals.Rows {
-			var conds []sql.Expr
-			match := true
-			for i, v := range vals.Vars {
-				c, ok := q.constConds(b.vars[v].alts[0], row[i])
-				if !ok {
-					match = false
-					break
-				}
-				conds = append(conds, c...)
-			}
-			if match {
-				rows = append(rows, conds)
-			}
+	}
+	var kept []*branch
+	for _, b := range r.branches {
+		occs := make([]occurrence, len(vals.Vars))
+		for i, v := range vals.Vars {
+			occs[i] = b.vars[v].alts[0]
 		}
-		if len(rows) == 0 {
-			continue // no row of the data can join this branch
+		if q.joinData(b, late{block: vals.Block, col: -1, occs: occs}, vals.Rows) {
+			kept = append(kept, b)
 		}
-		b.where = append(b.where, rowsCondition(rows))
-		kept = append(kept, b)
 	}
 	r.branches = kept
 	return true
+}
+
+// setLike reports whether inline data has neither UNDEF nor a repeated row.
+func setLike(rows [][]rdf.Term) bool {
+	for _, row := range rows {
+		for _, t := range row {
+			if t == nil {
+				return false
+			}
+		}
+	}
+	return distinctRows(rows)
+}
+
+// distinctRows reports whether no two rows of inline data are the same.
+func distinctRows(rows [][]rdf.Term) bool {
+	seen := make(map[string]bool, len(rows))
+	var k strings.Builder
+	for _, row := range rows {
+		k.Reset()
+		for _, t := range row {
+			switch t := t.(type) {
+			case rdf.IRI:
+				k.WriteString("<" + string(t))
+			case rdf.BlankNode:
+				k.WriteString("_" + string(t))
+			case rdf.Literal:
+				k.WriteString("\"" + t.Lexical + "\x01" + string(t.Datatype) + "\x01" + t.Lang)
+			}
+			k.WriteByte(0)
+		}
+		if seen[k.String()] {
+			return false
+		}
+		seen[k.String()] = true
+	}
+	return true
+}
+
+// late is a condition on a branch's rows that inline data decides: that the
+// terms the occurrences build equal those of one data row (col -1), or one
+// distinct term of column col.
+type late struct {
+	block int
+	col   int
+	occs  []occurrence
+}
+
+// joinData adds to b the condition that l's data rows hold; false when no row
+// of the data can match b, which then drops out. In a plan that lifts the
+// query's VALUES data the condition waits for each run's data (sql.Late), and
+// the branch stays.
+func (q *query) joinData(b *branch, l late, rows [][]rdf.Term) bool {
+	if q.lift && l.block > 0 {
+		b.where = append(b.where, sql.Late{ID: len(q.lates)})
+		q.lates = append(q.lates, l)
+		return true
+	}
+	cond, ok := q.dataCondition(l, rows)
+	if ok && cond != nil {
+		b.where = append(b.where, cond)
+	}
+	return ok
+}
+
+// dataCondition is the disjunction of the conditions under which the
+// occurrences build the terms of one data row; false when no row can match.
+func (q *query) dataCondition(l late, rows [][]rdf.Term) (sql.Expr, bool) {
+	if l.col >= 0 {
+		rows = distinctColumn(rows, l.col)
+	}
+	var conds [][]sql.Expr
+	for _, row := range rows {
+		var c []sql.Expr
+		match := true
+		for i, o := range l.occs {
+			oc, ok := q.constConds(o, row[i])
+			if !ok {
+				match = false
+				break
+			}
+			c = append(c, oc...)
+		}
+		if match {
+			conds = append(conds, c)
+		}
+	}
+	if len(conds) == 0 {
+		return nil, false
+	}
+	return rowsCondition(conds), true
+}
+
+// distinctColumn returns the distinct terms of column i as one-term rows.
+func distinctColumn(rows [][]rdf.Term, i int) [][]rdf.Term {
+	out := make([][]rdf.Term, 0, len(rows))
+	seen := make(map[rdf.Term]bool, len(rows))
+	for _, row := range rows {
+		if t := row[i]; !seen[t] {
+			seen[t] = true
+			out = append(out, []rdf.Term{t})
+		}
+	}
+	return out
 }
 
 // rowsCondition is the disjunction of the rows' conditions, as an IN list when
@@ -535,7 +617,7 @@ func rowsCondition(rows [][]sql.Expr) sql.Expr {
 			list = nil
 			break
 		}
-		if _, isParam := eq.R.(sql.Param); !isParam || (col != nil && fmt.Sprintf("%#v", col) != fmt.Sprintf("%#v", eq.L)) {
+		if _, isParam := eq.R.(sql.Param); !isParam || (col != nil && !sameExpr(col, eq.L)) {
 			list = nil
 			break
 		}
@@ -554,6 +636,17 @@ func rowsCondition(rows [][]sql.Expr) sql.Expr {
 		opts = append(opts, c)
 	}
 	return or(opts...)
+}
+
+// sameExpr compares two expressions: column references directly, others by
+// their printed form.
+func sameExpr(a, b sql.Expr) bool {
+	ca, aok := a.(sql.ColumnRef)
+	cb, bok := b.(sql.ColumnRef)
+	if aok && bok {
+		return ca == cb
+	}
+	return fmt.Sprintf("%#v", a) == fmt.Sprintf("%#v", b)
 }
 
 // nullAble copies occurrences read through an outer join: their columns may be
@@ -746,18 +839,9 @@ func readsTable(o occurrence, alias string) bool {
 func (q *query) prefilter(r *rel, vals algebra.Values) bool {
 	narrowed := false
 	for i, v := range vals.Vars {
-		var terms []rdf.Term
-		seen := map[string]bool{}
 		usable := true
 		for _, row := range vals.Rows {
-			if row[i] == nil {
-				usable = false
-				break
-			}
-			if k := row[i].String(); !seen[k] {
-				seen[k] = true
-				terms = append(terms, row[i])
-			}
+			usable = usable && row[i] != nil
 		}
 		for _, b := range r.branches {
 			usable = usable && b.vars[v].solid()
@@ -767,19 +851,9 @@ func (q *query) prefilter(r *rel, vals algebra.Values) bool {
 		}
 		var kept []*branch
 		for _, b := range r.branches {
-			var rows [][]sql.Expr
-			for _, t := range terms {
-				if conds, ok := q.constConds(b.vars[v].alts[0], t); ok {
-					rows = append(rows, conds)
-				}
+			if q.joinData(b, late{block: vals.Block, col: i, occs: []occurrence{b.vars[v].alts[0]}}, vals.Rows) {
+				kept = append(kept, b)
 			}
-			if len(rows) == 0 {
-				continue // no value of the data fits this branch
-			}
-			if cond := rowsCondition(rows); cond != nil {
-				b.where = append(b.where, cond)
-			}
-			kept = append(kept, b)
 		}
 		r.branches = kept
 		narrowed = true

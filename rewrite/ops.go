@@ -30,6 +30,9 @@ type Scan struct {
 	// Checks are equalities between two ways of building one variable's term that
 	// SQL could not compare; a row whose check fails is dropped.
 	Checks []Check
+	// lateBlocks, in a plan that lifts VALUES data (see lifted), are the blocks
+	// whose data Stmt's Late conditions wait for; SQL is printed for each run.
+	lateBlocks []int
 }
 
 // Filter keeps the solutions for which every expression's effective boolean
@@ -67,6 +70,9 @@ type Minus struct{ Left, Right Op }
 type Values struct {
 	Vars []algebra.Var
 	Rows [][]rdf.Term
+	// block, in a plan that lifts VALUES data (see lifted), is the block of the
+	// query text whose rows each run brings; 0 otherwise.
+	block int
 }
 
 // Group partitions Input by Keys and computes the aggregates per group (§18.5
@@ -168,3 +174,81 @@ func (*PerGraph) op() {}
 func (*Service) op()  {}
 func (*Distinct) op() {}
 func (*Slice) op()    {}
+
+// inputs returns the operators op reads.
+func inputs(op Op) []Op {
+	switch op := op.(type) {
+	case *Filter:
+		return []Op{op.Input}
+	case *Extend:
+		return []Op{op.Input}
+	case *Join:
+		return []Op{op.Left, op.Right}
+	case *LeftJoin:
+		return []Op{op.Left, op.Right}
+	case *Union:
+		return []Op{op.Left, op.Right}
+	case *Minus:
+		return []Op{op.Left, op.Right}
+	case *Group:
+		return []Op{op.Input}
+	case *Order:
+		return []Op{op.Input}
+	case *Project:
+		return []Op{op.Input}
+	case *PerGraph:
+		return []Op{op.Names}
+	case *Distinct:
+		return []Op{op.Input}
+	case *Slice:
+		return []Op{op.Input}
+	}
+	return nil // Scan, Values, Path, Service
+}
+
+// withInputs returns a copy of op that reads in instead (as inputs orders them).
+func withInputs(op Op, in []Op) Op {
+	switch op := op.(type) {
+	case *Filter:
+		c := *op
+		c.Input = in[0]
+		return &c
+	case *Extend:
+		c := *op
+		c.Input = in[0]
+		return &c
+	case *Join:
+		return &Join{Left: in[0], Right: in[1]}
+	case *LeftJoin:
+		c := *op
+		c.Left, c.Right = in[0], in[1]
+		return &c
+	case *Union:
+		return &Union{Left: in[0], Right: in[1]}
+	case *Minus:
+		return &Minus{Left: in[0], Right: in[1]}
+	case *Group:
+		c := *op
+		c.Input = in[0]
+		return &c
+	case *Order:
+		c := *op
+		c.Input = in[0]
+		return &c
+	case *Project:
+		c := *op
+		c.Input = in[0]
+		return &c
+	case *PerGraph:
+		c := *op
+		c.Names = in[0]
+		return &c
+	case *Distinct:
+		return &Distinct{Input: in[0]}
+	case *Slice:
+		c := *op
+		c.Input = in[0]
+		return &c
+	}
+	return op
+}

@@ -36,6 +36,9 @@ type Plan struct {
 	// solution substituted in, and the description of each DESCRIBE resource,
 	// over the query's dataset.
 	Planner Subplanner
+	// lifted, in a plan that lifts its query's VALUES data, is the planning
+	// state whose Late conditions each run's data decides (see bind).
+	lifted *query
 }
 
 // Subplanner plans the patterns a running query meets.
@@ -130,16 +133,21 @@ func itoa(n int) string { return strconv.Itoa(n) }
 
 // Plan plans a translated query.
 func (pl *Planner) Plan(q *algebra.Query) (*Plan, error) {
+	return pl.plan(q, &query{pl: pl, dataset: q.Dataset})
+}
+
+// plan plans a translated query with the planning state qs.
+func (pl *Planner) plan(q *algebra.Query, qs *query) (*Plan, error) {
 	pattern := q.Root
 	if q.Form == algebra.Ask {
 		// ASK needs one solution at most: the SQL stops at the first row.
 		pattern = algebra.Slice{Input: pattern, Limit: 1}
 	}
-	sub := inDataset{pl: pl, dataset: q.Dataset}
-	root, err := sub.PlanPattern(pattern)
+	root, err := qs.op(pattern, nil)
 	if err != nil {
 		return nil, err
 	}
+	sub := inDataset{pl: pl, dataset: q.Dataset}
 	return &Plan{Form: q.Form, Vars: q.Vars, Root: root, Template: q.Template, Describe: q.Describe, Planner: sub}, nil
 }
 
@@ -217,7 +225,7 @@ func (q *query) op(n algebra.Node, graph algebra.Item) (Op, error) {
 				if err != nil {
 					return nil, err
 				}
-				return &Join{Left: &Values{Vars: vals.Vars, Rows: vals.Rows}, Right: scan}, nil
+				return &Join{Left: q.values(vals), Right: scan}, nil
 			}
 		}
 		l, r, err := q.pair(n.Left, n.Right, graph)
@@ -253,7 +261,7 @@ func (q *query) op(n algebra.Node, graph algebra.Item) (Op, error) {
 		}
 		return q.op(n.Input, n.Name)
 	case algebra.Values:
-		return &Values{Vars: n.Vars, Rows: n.Rows}, nil
+		return q.values(n), nil
 	case algebra.Table:
 		if n.Empty {
 			return &Values{}, nil
@@ -430,6 +438,22 @@ func (q *query) scan(r *rel, mod modifiers) (Op, error) {
 	if !ok {
 		return nil, fmt.Errorf("rewrite: cannot close a relation planned as closable")
 	}
-	text, args := sql.Print(c.stmt, q.pl.dialect)
-	return &Scan{Stmt: c.stmt, SQL: text, Args: args, Kinds: kindsOf(c.types), Slots: c.slots, Checks: c.checks}, nil
+	s := &Scan{Stmt: c.stmt, Kinds: kindsOf(c.types), Slots: c.slots, Checks: c.checks}
+	s.SQL, s.Args = sql.PrintLate(c.stmt, q.pl.dialect, func(l sql.Late) sql.Expr {
+		s.lateBlocks = append(s.lateBlocks, q.lates[l.ID].block)
+		return nil
+	})
+	if s.lateBlocks != nil {
+		s.SQL, s.Args = "", nil // printed with each run's data
+	}
+	return s, nil
+}
+
+// values plans inline data.
+func (q *query) values(n algebra.Values) *Values {
+	v := &Values{Vars: n.Vars, Rows: n.Rows}
+	if q.lift {
+		v.block = n.Block
+	}
+	return v
 }

@@ -118,6 +118,11 @@ type query struct {
 	// dataset is the query's FROM / FROM NAMED; empty means the service's own
 	// default graph and named graphs.
 	dataset algebra.Dataset
+	// lift makes the conditions that VALUES blocks of the query text turn into
+	// Late ones, so that the plan serves every query of the same shape (see
+	// lifted); lates are those conditions, by sql.Late ID.
+	lift  bool
+	lates []late
 }
 
 func (q *query) alias(prefix string) string {

@@ -82,6 +82,10 @@ type Stats struct {
 	// in-process on decoded solutions because SQL could not express them
 	// (filters, term checks, distinct, slices), one per solution each.
 	ResidualEvaluations int64
+	// Translation is the time spent parsing and planning the query, and
+	// PlanCached whether the plan cache served the plan.
+	Translation time.Duration
+	PlanCached  bool
 }
 
 // Solutions is a cursor over query solutions, in the manner of

@@ -41,7 +41,10 @@ func (x execEngine) Query(ctx context.Context, q Query) (*Answer, error) {
 			}
 			return []string{rewrite.Explain(p)}
 		},
-		Stats: func() Stats { return Stats{ResidualEvaluations: c.ResidualEvaluations()} },
+		Stats: func() Stats {
+			took, cached := c.Compilation()
+			return Stats{ResidualEvaluations: c.ResidualEvaluations(), Translation: took, PlanCached: cached}
+		},
 	}
 	switch c.Form() {
 	case algebra.Select:
@@ -65,7 +68,11 @@ func (x execEngine) Ready(ctx context.Context) error { return x.e.Ready(ctx) }
 // Explain implements Explainer: the algebra of the query and the planner's
 // account of its plan.
 func (x execEngine) Explain(_ context.Context, q Query) (*Explanation, error) {
-	p, aq, err := x.e.Planner.CompileRequest(request(q))
+	p, _, err := x.e.Planner.CompileRequest(request(q))
+	if err != nil {
+		return nil, &exec.Error{Kind: exec.BadQuery, Err: err}
+	}
+	aq, err := rewrite.Translate(request(q))
 	if err != nil {
 		return nil, &exec.Error{Kind: exec.BadQuery, Err: err}
 	}

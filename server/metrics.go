@@ -20,6 +20,8 @@ type metrics struct {
 	streamFailures prometheus.Counter
 	rowLimit       prometheus.Counter
 	reloads        *prometheus.CounterVec
+	translation    prometheus.Histogram
+	planCache      *prometheus.CounterVec
 }
 
 // Histogram buckets from 1 ms to about 65 s, four to a decade and a bit:
@@ -83,9 +85,20 @@ func newMetrics(reg prometheus.Registerer) *metrics {
 			Name: "veneer_catalog_reloads_total",
 			Help: "Catalog reloads by result: ok, or failed (the old catalog stays).",
 		}, []string{"result"}),
+		translation: prometheus.NewHistogram(prometheus.HistogramOpts{
+			Name: "veneer_translate_duration_seconds",
+			Help: "Time spent parsing and planning each query (plan cache lookups included).",
+			// 10 µs to about 0.7 s: a cached plan takes microseconds.
+			Buckets: prometheus.ExponentialBuckets(0.00001, 4, 9),
+		}),
+		planCache: prometheus.NewCounterVec(prometheus.CounterOpts{
+			Name: "veneer_plan_cache_lookups_total",
+			Help: "Plan cache lookups by result: hit (by the query text, or by its shape with the VALUES data bound in) or miss.",
+		}, []string{"result"}),
 	}
 	reg.MustRegister(m.requests, m.duration, m.queryDuration, m.sqlDuration, m.rows, m.inFlight,
-		m.queued, m.rejected, m.timeouts, m.residual, m.streamFailures, m.rowLimit, m.reloads)
+		m.queued, m.rejected, m.timeouts, m.residual, m.streamFailures, m.rowLimit, m.reloads,
+		m.translation, m.planCache)
 	return m
 }
 

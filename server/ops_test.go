@@ -29,9 +29,15 @@ import (
 )
 
 func TestMetrics(t *testing.T) {
+	served := 0
 	e := explainingEngine{&fakeEngine{answer: func(ctx context.Context, q Query) (*Answer, error) {
 		a, err := rowsAnswer(3, -1)(ctx, q)
-		a.Stats = func() Stats { return Stats{SQLDuration: 20 * time.Millisecond, SQLRows: 9, ResidualEvaluations: 6} }
+		served++
+		cached := served > 1 // the second run of a query finds its plan
+		a.Stats = func() Stats {
+			return Stats{SQLDuration: 20 * time.Millisecond, SQLRows: 9, ResidualEvaluations: 6,
+				Translation: 250 * time.Microsecond, PlanCached: cached}
+		}
 		return a, err
 	}}}
 	env := newEnv(t, DefaultConfig(), e)
@@ -56,6 +62,11 @@ func TestMetrics(t *testing.T) {
 		`veneer_db_connections_max{source="main"}`:                              "8",
 		`veneer_db_connection_waits_total{source="main"}`:                       "5",
 		`veneer_http_request_duration_seconds_count{route="sparql"}`:            "3",
+		`veneer_plan_cache_lookups_total{result="hit"}`:                         "1",
+		`veneer_plan_cache_lookups_total{result="miss"}`:                        "1",
+		`veneer_translate_duration_seconds_sum`:                                 "0.0005",
+		`veneer_translate_duration_seconds_bucket{le="0.00064"}`:                "2",
+		`veneer_translate_duration_seconds_bucket{le="0.00016"}`:                "0",
 	}
 	all := env.metric(t, "veneer_")
 	for name, v := range want {

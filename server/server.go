@@ -218,6 +218,12 @@ func (s *Server) sparql(w http.ResponseWriter, r *http.Request) error {
 		st := a.Stats()
 		s.metrics.sqlDuration.Observe(st.SQLDuration.Seconds())
 		s.metrics.residual.Add(float64(st.ResidualEvaluations))
+		s.metrics.translation.Observe(st.Translation.Seconds())
+		result := "miss"
+		if st.PlanCached {
+			result = "hit"
+		}
+		s.metrics.planCache.WithLabelValues(result).Inc()
 	}
 	if s.cfg.SlowQuery > 0 && d >= s.cfg.SlowQuery {
 		s.logSlow(r.Context(), op, a, d, n, err)

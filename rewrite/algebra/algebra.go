@@ -103,6 +103,9 @@ type Extend struct {
 type Values struct {
 	Vars []Var
 	Rows [][]rdf.Term
+	// Block is the number of the VALUES block of the query text the data came
+	// from (sparql.ValuesBlock.Block), 0 for data the translation made.
+	Block int
 }
 
 // Table is the unit table when Empty is false (one solution binding nothing) and

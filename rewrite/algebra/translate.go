@@ -474,16 +474,22 @@ func conjunction(es []Expr) Expr {
 	return e
 }
 
-func (t *translator) values(v *sparql.ValuesBlock) Values {
-	out := Values{Vars: make([]Var, len(v.Vars)), Rows: make([][]rdf.Term, len(v.Rows))}
+func (t *translator) values(v *sparql.ValuesBlock) Values { return InlineData(v) }
+
+// InlineData translates one VALUES block of a query.
+func InlineData(v *sparql.ValuesBlock) Values {
+	out := Values{Vars: make([]Var, len(v.Vars)), Rows: make([][]rdf.Term, len(v.Rows)), Block: v.Block}
 	for i, x := range v.Vars {
 		out.Vars[i] = Var(x.Name)
 	}
 	for i, row := range v.Rows {
 		r := make([]rdf.Term, len(row))
 		for j, val := range row {
-			if val != nil {
-				r[j] = t.item(val).(Const).Term
+			switch val := val.(type) {
+			case *sparql.IRI:
+				r[j] = val.IRI
+			case *sparql.Literal:
+				r[j] = val.Value
 			}
 		}
 		out.Rows[i] = r

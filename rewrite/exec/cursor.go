@@ -25,6 +25,7 @@ import (
 	"errors"
 	"fmt"
 	"strings"
+	"time"
 
 	"veneer/catalog/rdf"
 	"veneer/catalog/source"
@@ -58,6 +59,10 @@ type Cursor struct {
 
 	err  error
 	done bool
+
+	// compiled and cached: see Compilation.
+	compiled time.Duration
+	cached   bool
 }
 
 // Run starts a plan on src with the default Options.
@@ -189,6 +194,11 @@ func (c *Cursor) Close() error {
 	}
 	return nil
 }
+
+// Compilation reports how long parsing and planning the cursor's query took
+// and whether the plan cache served its plan; zero for a cursor started from
+// a plan (Run).
+func (c *Cursor) Compilation() (time.Duration, bool) { return c.compiled, c.cached }
 
 // ResidualEvaluations counts the solutions that in-process operators have
 // taken in so far (a Filter testing one, a join reading one from either side,

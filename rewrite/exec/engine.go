@@ -3,6 +3,7 @@ package exec
 import (
 	"context"
 	"errors"
+	"time"
 
 	"veneer/catalog/source"
 	"veneer/rewrite"
@@ -24,7 +25,9 @@ func (e *Engine) Query(ctx context.Context, text string) (*Cursor, error) {
 // QueryRequest compiles and starts a query with what the protocol adds to it
 // (base IRI, dataset). The returned cursor must be closed.
 func (e *Engine) QueryRequest(ctx context.Context, r rewrite.Request) (*Cursor, error) {
-	p, _, err := e.Planner.CompileRequest(r)
+	start := time.Now()
+	p, cached, err := e.Planner.CompileRequest(r)
+	took := time.Since(start)
 	if err != nil {
 		if pe := planError(err); pe != nil {
 			return nil, pe
@@ -35,6 +38,7 @@ func (e *Engine) QueryRequest(ctx context.Context, r rewrite.Request) (*Cursor, 
 	if err != nil {
 		return nil, classify(ctx, err)
 	}
+	c.compiled, c.cached = took, cached
 	return c, nil
 }
 

@@ -30,6 +30,9 @@ type Query struct {
 	Modifiers Modifiers
 	// Values is the trailing VALUES clause, or nil.
 	Values *ValuesBlock
+	// Data lists every VALUES block of the query in the order of the text;
+	// block i has Block i+1.
+	Data []*ValuesBlock
 	// FormPos is the position of the query form keyword.
 	FormPos Pos
 }
@@ -118,6 +121,10 @@ type ValuesBlock struct {
 	Rows [][]Term
 	// RowPos holds the position of each row.
 	RowPos []Pos
+	// Block numbers the query's VALUES blocks from 1 in the order of the text.
+	Block int
+	// Body spans the data: from the '{' to the byte after the closing '}'.
+	Body [2]Pos
 }
 
 // SubSelect is a nested SELECT (rule [8]).

@@ -271,8 +271,20 @@ func lexPunct(l *lexer) stateFn {
 //
 //	[139] IRIREF ::= '<' ([^<>"{}|^`\]-[#x00-#x20])* '>'
 func lexIRIOrLess(l *lexer) stateFn {
-	var b strings.Builder
 	at := l.pos + 1
+	// Most IRIs are ASCII without escapes: their text is their value.
+	for i := at; i < len(l.src); i++ {
+		c := l.src[i]
+		if c == '>' {
+			l.pos = i + 1
+			l.emit(tokIRI, l.src[at:i], "")
+			return lexAny
+		}
+		if c >= utf8.RuneSelf || c == '\\' || !rdf.IsIRIChar(rune(c)) {
+			break
+		}
+	}
+	var b strings.Builder
 	for {
 		r, w, esc := l.peek(at)
 		if r == '>' && !esc {
@@ -310,6 +322,20 @@ func lexString(l *lexer) stateFn {
 		delim = strings.Repeat(delim, 3)
 	}
 	at := l.pos + len(delim)
+	if !long {
+		// Most strings are ASCII without escapes: their text is their value.
+		for i := at; i < len(l.src); i++ {
+			c := l.src[i]
+			if c == q {
+				l.pos = i + 1
+				l.emit(tokString, l.src[at:i], "")
+				return lexAny
+			}
+			if c >= utf8.RuneSelf || c == '\\' || c == '\n' || c == '\r' {
+				break
+			}
+		}
+	}
 	var b strings.Builder
 	for {
 		if strings.HasPrefix(l.src[at:], delim) {

@@ -87,6 +87,8 @@ type parser struct {
 	// triple patterns read so far.
 	depth   int
 	triples int
+	// data collects the VALUES blocks read so far (Query.Data).
+	data []*ValuesBlock
 }
 
 // peekAt returns the token i places ahead (0: the next one) without consuming it.
@@ -226,6 +228,7 @@ func (p *parser) parseQueryUnit() *Query {
 		p.unexpected("SELECT, CONSTRUCT, DESCRIBE or ASK")
 	}
 	q.Values = p.parseValuesClause()
+	q.Data = p.data
 	if t := p.peek(); t.typ != tokEOF {
 		p.unexpected("end of query")
 	}
@@ -673,6 +676,8 @@ func (p *parser) parseValuesClause() *ValuesBlock {
 //	[64] InlineDataFull ::= ( NIL | '(' Var* ')' ) '{' ( '(' DataBlockValue* ')' | NIL )* '}'
 func (p *parser) parseDataBlock(pos Pos) *ValuesBlock {
 	v := &ValuesBlock{Pos: pos}
+	p.data = append(p.data, v)
+	v.Block = len(p.data)
 	t := p.peek()
 	switch {
 	case t.typ == tokVar:
@@ -683,7 +688,7 @@ func (p *parser) parseDataBlock(pos Pos) *ValuesBlock {
 			v.Rows = append(v.Rows, []Term{p.parseDataBlockValue()})
 			v.RowPos = append(v.RowPos, rowPos)
 		}
-		p.closeBrace(open, "VALUES block")
+		v.Body = [2]Pos{open, p.closeBrace(open, "VALUES block") + 1}
 		return v
 	case t.typ == tokPunct && t.val == "(":
 		p.next()
@@ -711,7 +716,7 @@ func (p *parser) parseDataBlock(pos Pos) *ValuesBlock {
 		v.Rows = append(v.Rows, row)
 		v.RowPos = append(v.RowPos, rowPos)
 	}
-	p.closeBrace(open, "VALUES block")
+	v.Body = [2]Pos{open, p.closeBrace(open, "VALUES block") + 1}
 	return v
 }
 

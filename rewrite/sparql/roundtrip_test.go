@@ -25,7 +25,7 @@ func stripPositions(v reflect.Value) {
 		if !v.IsNil() {
 			stripPositions(v.Elem())
 		}
-	case reflect.Slice:
+	case reflect.Slice, reflect.Array:
 		if v.Type().Elem() == reflect.TypeOf(sparql.Pos(0)) {
 			v.Set(reflect.Zero(v.Type()))
 			return

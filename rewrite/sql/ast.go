@@ -205,10 +205,24 @@ func MapColumns(e Expr, f func(ColumnRef) ColumnRef) Expr {
 			args[i] = MapColumns(a, f)
 		}
 		return Func{Name: x.Name, Args: args}
+	case Late:
+		x.renames = append(x.renames[:len(x.renames):len(x.renames)], f)
+		return x
 	}
 	// Param, Int, Null, and Exists (whose sub-query is closed over its own FROM).
 	return e
 }
+
+// Late is a condition that is known only when the statement is printed
+// (PrintLate): one built from inline data that each run of a plan brings.
+// Column renamings applied to it (MapColumns) apply to the condition it stands
+// for.
+type Late struct {
+	ID      int
+	renames []func(ColumnRef) ColumnRef
+}
+
+func (Late) expr() {}
 
 // Agg is an aggregate call: Name(DISTINCT Arg), or COUNT(*) when Arg is nil.
 type Agg struct {

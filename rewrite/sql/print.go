@@ -12,7 +12,14 @@ import (
 // Print renders stmt in the given dialect and returns the text and the values of
 // its placeholders, in order.
 func Print(stmt Stmt, d source.Dialect) (string, []any) {
-	p := &printer{dialect: d}
+	return PrintLate(stmt, d, nil)
+}
+
+// PrintLate is Print for a statement with Late conditions: resolve gives each
+// one's condition (nil: the condition holds). A Late met without resolve is
+// printed as a condition that never holds.
+func PrintLate(stmt Stmt, d source.Dialect, resolve func(Late) Expr) (string, []any) {
+	p := &printer{dialect: d, resolve: resolve}
 	p.stmt(stmt)
 	return p.b.String(), p.args
 }
@@ -21,6 +28,7 @@ type printer struct {
 	dialect source.Dialect
 	b       strings.Builder
 	args    []any
+	resolve func(Late) Expr
 }
 
 func (p *printer) w(s ...string) {
@@ -224,6 +232,8 @@ func (p *printer) expr(e Expr) {
 		p.w(strconv.FormatInt(int64(e), 10))
 	case Null:
 		p.w("NULL")
+	case Late:
+		p.late(e)
 	case Binary:
 		p.w("(")
 		p.expr(e.L)
@@ -314,6 +324,23 @@ func (p *printer) expr(e Expr) {
 	default:
 		panic(fmt.Sprintf("sql: unknown expression %T", e))
 	}
+}
+
+// late prints the condition a Late stands for, renamed as the Late was.
+func (p *printer) late(l Late) {
+	if p.resolve == nil {
+		p.w("(1 = 0)")
+		return
+	}
+	e := p.resolve(l)
+	if e == nil {
+		p.w("(1 = 1)")
+		return
+	}
+	for _, f := range l.renames {
+		e = MapColumns(e, f)
+	}
+	p.expr(e)
 }
 
 // ident prints an identifier from a mapping: a delimited one keeps its case and is
