@@ -27,15 +27,20 @@ import (
 // unreadable mapping or an unreachable database.
 const exitUsage = 2
 
-func main() {
+func main() { os.Exit(command(os.Args[1:])) }
+
+// command runs veneer with the arguments after the program name until it is
+// done or SIGINT or SIGTERM stops it, and returns the exit code.
+func command(args []string) int {
 	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
 	defer stop()
-	if err := run(ctx, os.Args[1:], os.Stdout, os.Stderr); err != nil {
+	if err := run(ctx, args, os.Stdout, os.Stderr); err != nil {
 		if !errors.Is(err, flag.ErrHelp) {
 			fmt.Fprintln(os.Stderr, "veneer: "+oneLine(err.Error()))
 		}
-		os.Exit(exitUsage)
+		return exitUsage
 	}
+	return 0
 }
 
 // oneLine folds a multi-line error (a syntax error shows its source line) so the
