@@ -24,13 +24,23 @@ func newServer(e *exec.Engine) (*server.Server, error) {
 // until the scratch database is closed, and returns the URL of its SPARQL
 // endpoint.
 func serveEngine(sc *Scratch, e *exec.Engine) (string, error) {
-	srv, err := newServer(e)
-	if err != nil {
-		return "", err
-	}
 	ln, err := net.Listen("tcp", "127.0.0.1:0")
 	if err != nil {
 		return "", fmt.Errorf("listening for the test server: %w", err)
+	}
+	if err := serveOn(sc, e, ln); err != nil {
+		ln.Close()
+		return "", err
+	}
+	return "http://" + ln.Addr().String() + "/sparql", nil
+}
+
+// serveOn serves e through veneer's server on ln until the scratch database
+// is closed.
+func serveOn(sc *Scratch, e *exec.Engine, ln net.Listener) error {
+	srv, err := newServer(e)
+	if err != nil {
+		return err
 	}
 	ctx, stop := context.WithCancel(context.Background())
 	done := make(chan error, 1)
@@ -42,5 +52,5 @@ func serveEngine(sc *Scratch, e *exec.Engine) (string, error) {
 		}
 		return nil
 	})
-	return "http://" + ln.Addr().String() + "/sparql", nil
+	return nil
 }

@@ -112,7 +112,7 @@ func scratchName() string { return fmt.Sprintf("veneer_w3c_%016x", rand.Uint64()
 // Create makes a new empty throw-away database.
 func (s *Server) Create(ctx context.Context) (*Scratch, error) {
 	name := scratchName()
-	sc := &Scratch{Dialect: s.Dialect}
+	sc := &Scratch{Dialect: s.Dialect, server: s}
 	switch s.Dialect {
 	case source.SQLite:
 		path := filepath.Join(s.dir, name+".db")
@@ -223,10 +223,11 @@ type Scratch struct {
 	// DSN opens the database through source.Open; unqualified table names
 	// resolve in it (PostgreSQL: by a search_path parameter; MySQL: with the
 	// session's sql_mode including ANSI_QUOTES, as the scripts need).
-	DSN  string
-	db   *sql.DB
-	drop func() error
-	src  source.Source
+	DSN    string
+	db     *sql.DB
+	drop   func() error
+	src    source.Source
+	server *Server // that made it
 	// closers stop what the set-up started over the database (a server),
 	// before Close closes the source.
 	closers []func() error
@@ -257,6 +258,17 @@ func (s *Scratch) Source(ctx context.Context) (source.Source, error) {
 		s.src = src
 	}
 	return s.src, nil
+}
+
+// Another makes one more throw-away database on the server that made s,
+// closed and removed when s is: for a set-up that needs several databases.
+func (s *Scratch) Another(ctx context.Context) (*Scratch, error) {
+	o, err := s.server.Create(ctx)
+	if err != nil {
+		return nil, err
+	}
+	s.atClose(o.Close)
+	return o, nil
 }
 
 // atClose has Close call f first, for something that uses the database.

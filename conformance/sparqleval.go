@@ -165,6 +165,9 @@ type evalCase struct {
 	lax bool
 	// overHTTP: the test is also asked through the HTTP handler.
 	overHTTP bool
+	// edit, when set, rewrites the query text before it runs (the
+	// sparql-service suite points SERVICE IRIs at its stand-in endpoints).
+	edit func(text string) string
 }
 
 // graphLoad is one RDF document loaded into one graph of a test's dataset.
@@ -412,16 +415,23 @@ func (g *evalGroup) name(first *evalCase) string {
 // setup stores the dataset on the scratch database and builds the engine
 // over it, as veneer serve does.
 func (g *evalGroup) setup(ctx context.Context, sc *Scratch) error {
-	cat, err := storeDataset(ctx, sc, g.loads)
+	var err error
+	g.engine, err = engineOver(ctx, sc, g.loads)
+	return err
+}
+
+// engineOver stores a dataset on the scratch database and builds the engine
+// over it.
+func engineOver(ctx context.Context, sc *Scratch, loads []graphLoad) (*exec.Engine, error) {
+	cat, err := storeDataset(ctx, sc, loads)
 	if err != nil {
-		return err
+		return nil, err
 	}
 	src, err := sc.Source(ctx)
 	if err != nil {
-		return err
+		return nil, err
 	}
-	g.engine, err = newEngine(ctx, src, cat)
-	return err
+	return newEngine(ctx, src, cat)
 }
 
 // guarded runs f with a deadline. A test that does not return within stopGrace
@@ -478,6 +488,9 @@ func (c *evalCase) run(ctx context.Context, g *evalGroup) error {
 	text, base, err := c.queryText()
 	if err != nil {
 		return err
+	}
+	if c.edit != nil {
+		text = c.edit(text)
 	}
 	// The engine reads query text without a retrieval IRI; a BASE declaration
 	// in front gives it the file's (a prologue may start with BASE, §19.8).

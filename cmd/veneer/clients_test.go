@@ -168,15 +168,7 @@ func expected(t *testing.T, endpoint, form, query string) (any, error) {
 	switch form {
 	case "select":
 		_, rows := sparqlJSON(t, endpoint, query)
-		var out []map[string]jsTerm
-		for _, r := range rows {
-			m := map[string]jsTerm{}
-			for k, b := range r {
-				m[k] = bindingTerm(b)
-			}
-			out = append(out, m)
-		}
-		return canonical(out), nil
+		return canonicalBindings(rows), nil
 	}
 	accept := map[string]string{"ask": "application/sparql-results+json", "construct": "application/n-triples"}[form]
 	req, _ := http.NewRequest("GET", endpoint+"?query="+url.QueryEscape(query), nil)

@@ -303,7 +303,7 @@ func (m *materialiser) term(tm catalog.TermMap, t *table, r row) (rdf.Term, bool
 				return nil, false, fmt.Errorf("template at %s, column %s: %w", tm.Pos, p.Column, err)
 			}
 			if tm.TermType == rdf.KindIRI {
-				lex = iriSafe(lex) // R2RML §7.3
+				lex = IRISafe(lex) // R2RML §7.3
 			}
 			b.WriteString(lex)
 		}

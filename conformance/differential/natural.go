@@ -264,11 +264,11 @@ func canonicalDouble(x float64) string {
 	return mant + "E" + strconv.Itoa(e)
 }
 
-// iriSafe percent-encodes every character of s outside RFC 3987's iunreserved
+// IRISafe percent-encodes every character of s outside RFC 3987's iunreserved
 // production (ALPHA / DIGIT / "-" / "." / "_" / "~" / ucschar), as R2RML §7.3
 // requires of the column values placed into an IRI template; each byte of an
 // encoded character's UTF-8 form becomes %XX.
-func iriSafe(s string) string {
+func IRISafe(s string) string {
 	var b strings.Builder
 	for _, r := range s {
 		if iunreserved(r) {

@@ -22,8 +22,8 @@ func TestIRISafe(t *testing.T) {
 		{"", ""},
 	}
 	for _, c := range cases {
-		if got := iriSafe(c.in); got != c.want {
-			t.Errorf("iriSafe(%q) = %q, want %q", c.in, got, c.want)
+		if got := IRISafe(c.in); got != c.want {
+			t.Errorf("IRISafe(%q) = %q, want %q", c.in, got, c.want)
 		}
 	}
 }

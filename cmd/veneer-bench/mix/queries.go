@@ -298,7 +298,59 @@ SELECT NULL, inspection_id FROM inspection WHERE technician_id = ?`,
 	for i := range queries {
 		queries[i].SPARQL = prologue + queries[i].SPARQL
 	}
-	return queries
+	return append(queries, federationProbes(p)...)
+}
+
+// federationProbes are the requests a federating engine sends per triple
+// pattern before and during a join (issue 10 describes them): a COUNT probe,
+// an ASK probe, and a sub-query whose join values arrive in a VALUES block of
+// 16 rows that also binds a variable the pattern does not use, strings typed
+// as xsd:string. They are written as the engine writes them: full IRIs, no
+// prologue.
+func federationProbes(p Params) []Query {
+	const xsdString = "<http://www.w3.org/2001/XMLSchema#string>"
+	var rows, marks []string
+	var args []any
+	for _, s := range p.Turbines[:min(16, len(p.Turbines))] {
+		rows = append(rows, fmt.Sprintf("(%s %q^^%s)", Resource("turbine/", s), s, xsdString))
+		marks = append(marks, "?")
+		args = append(args, s)
+	}
+	return []Query{
+		{
+			Name: "18-count-probe", Kind: "COUNT probe of a triple pattern (federation)", Form: Select,
+			// wf:onTurbine comes from two triples maps, work orders and
+			// inspections, whose subjects never coincide: the count is a sum.
+			SPARQL: "SELECT (COUNT(*) AS ?count) WHERE { ?s <" + vocab + "onTurbine> ?o . }",
+			Twin: Twin{
+				SQL:   "SELECT (SELECT COUNT(turbine_id) FROM work_order) + (SELECT COUNT(turbine_id) FROM inspection)",
+				Kinds: source.Kinds{num},
+				Vars:  []string{"count"},
+				Terms: []TermFunc{natural(0)},
+			},
+		},
+		{
+			Name: "19-ask-probe", Kind: "ASK probe of a triple pattern (federation)", Form: Ask,
+			SPARQL: "ASK WHERE { ?x <" + vocab + "assignedTo> ?y . }",
+			Twin: Twin{
+				SQL:   "SELECT 1 FROM work_order WHERE technician_id IS NOT NULL LIMIT 1",
+				Kinds: source.Kinds{num},
+			},
+		},
+		{
+			Name: "20-values-16", Kind: "16-row VALUES sub-query (federation)", Form: Select,
+			SPARQL: fmt.Sprintf(`SELECT ?t ?serial ?kw WHERE { VALUES (?t ?serial) {
+  %s
+} { ?t <%sratedPowerKW> ?kw . FILTER(?kw >= 3000) } }`, strings.Join(rows, "\n  "), vocab),
+			Twin: Twin{
+				SQL:   "SELECT serial, rated_power_kw FROM turbine WHERE serial IN (" + strings.Join(marks, ", ") + ") AND rated_power_kw >= ?",
+				Args:  append(args, int64(3000)),
+				Kinds: source.Kinds{str, num},
+				Vars:  []string{"t", "serial", "kw"},
+				Terms: []TermFunc{resource("turbine/", 0), natural(0), natural(1)},
+			},
+		},
+	}
 }
 
 // construct is the CONSTRUCT of one turbine's neighbourhood: its own triples and

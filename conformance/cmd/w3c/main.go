@@ -35,6 +35,7 @@ func init() {
 	for _, s := range []conformance.Suite{
 		conformance.RDB2RDF(), conformance.SPARQLSyntax(), conformance.SPARQLEval(),
 		conformance.Turtle(), conformance.NTriples(), conformance.NQuads(), conformance.Protocol(),
+		conformance.SPARQLService(),
 	} {
 		suites[s.Name()] = s
 	}

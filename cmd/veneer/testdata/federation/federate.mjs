@@ -1,14 +1,16 @@
 // Runs a federated SPARQL query with the query engine from the npm registry
-// and prints its solutions as JSON, for TestFederatedQuery.
+// and prints its solutions as JSON, for TestFederatedQuery and
+// TestFederatedSources.
 //
-//   node federate.mjs SOURCE QUERY
+//   node federate.mjs SOURCE QUERY [SOURCE...]
 //
-// SOURCE is a SPARQL endpoint the engine is given as its source; the query
-// reaches other endpoints with SERVICE. A solution prints as
+// Each SOURCE is a SPARQL endpoint the engine is given as a source; the query
+// may reach other endpoints with SERVICE. A solution prints as
 // {variable: [kind, value, tag]}, the form of ../clients/check.mjs.
 import { QueryEngine } from '@comunica/query-sparql'
 
-const [source, query] = process.argv.slice(2)
+const [first, query, ...more] = process.argv.slice(2)
+const sources = [first, ...more].map(value => ({ type: 'sparql', value }))
 
 function term (t) {
   switch (t.termType) {
@@ -21,7 +23,7 @@ function term (t) {
 
 try {
   const engine = new QueryEngine()
-  const stream = await engine.queryBindings(query, { sources: [{ type: 'sparql', value: source }] })
+  const stream = await engine.queryBindings(query, { sources })
   const rows = []
   for (const b of await stream.toArray()) {
     const row = {}
