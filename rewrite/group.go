@@ -20,12 +20,16 @@ func (q *query) group(r *rel, n algebra.Group) *rel {
 	if !ok || len(r.branches) == 0 {
 		return nil // an empty input still makes one group without keys: in-process
 	}
+	reads := groupReads(n)
 	if len(r.branches) != 1 {
-		if r, ok = q.derived(r, modifiers{limit: -1}); !ok {
+		if r, ok = q.derived(r, modifiers{vars: reads, limit: -1}); !ok {
 			return nil
 		}
 	}
 	b := r.branches[0]
+	if reads != nil {
+		b = q.pruneTables(b, reads)
+	}
 	sel := &sql.Select{From: b.from, Where: sql.And(uniqueConds(b.where)...)}
 	alias := q.alias("g")
 	out := &branch{from: []sql.From{&sql.Derived{Stmt: sel, Alias: alias}}, vars: map[algebra.Var]binding{}}
@@ -83,6 +87,33 @@ func (q *query) group(r *rel, n algebra.Group) *rel {
 		sel.Columns = []sql.Column{{Expr: sql.Int(1), Alias: "c0"}}
 	}
 	return res
+}
+
+// groupReads lists the variables that a group's keys and aggregates read, or
+// nil (all of them) when an aggregate reads an expression or counts distinct
+// solutions.
+func groupReads(n algebra.Group) []algebra.Var {
+	vars := []algebra.Var{}
+	for _, k := range n.Keys {
+		v, ok := k.Expr.(algebra.Var)
+		if !ok {
+			return nil
+		}
+		vars = append(vars, v)
+	}
+	for _, a := range n.Aggs {
+		switch arg := a.Agg.Arg.(type) {
+		case nil:
+			if a.Agg.Distinct {
+				return nil
+			}
+		case algebra.Var:
+			vars = append(vars, arg)
+		default:
+			return nil
+		}
+	}
+	return vars
 }
 
 // aggregate translates one aggregate over the branch; whole says there is no

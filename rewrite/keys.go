@@ -4,12 +4,16 @@ import (
 	"fmt"
 
 	"veneer/catalog"
+	"veneer/catalog/source"
+	"veneer/rewrite/algebra"
 	"veneer/rewrite/sql"
 )
 
-// This file holds the two rules that use the source's keys: a relation whose rows
-// cannot repeat a solution needs no DISTINCT, and two FROM items of one table
-// joined on a key are one row, so one of them goes (self-join elimination).
+// This file holds the rules that use the source's keys: a relation whose rows
+// cannot repeat a solution needs no DISTINCT; two FROM items of one table
+// joined on a key are one row, so one of them goes (self-join elimination);
+// and a table joined on the key a foreign key references goes when no needed
+// variable reads it (join elimination).
 
 // unique reports whether no two rows of r can give the same solution, so the
 // graph-as-a-set rule needs no DISTINCT: no two branches bind the variables with
@@ -248,3 +252,185 @@ func (q *query) sameRowPair(b *branch) (string, string, bool) {
 }
 
 func identOf(col string) catalog.Ident { return catalog.Ident{Name: col, Quoted: true} }
+
+// pruneTables returns b without the tables that only join rows a foreign key
+// guarantees (join elimination): a table read by no variable of vars and no
+// check, equated on a key with the columns of another table that a foreign
+// key declares to reference it, and otherwise only required to have columns
+// set that the database keeps NOT NULL. Each row of the other table then
+// joins exactly one of its rows when its foreign key columns are set, which
+// the pruned branch requires instead. SQLite does not enforce foreign keys
+// unless a session asks, so its tables are kept (as fkObject does).
+func (q *query) pruneTables(b *branch, vars []algebra.Var) *branch {
+	if q.pl.dialect == source.SQLite || len(b.from) < 2 {
+		return b
+	}
+	used := map[string]bool{}
+	note := func(e sql.Expr) {
+		if e != nil {
+			sql.MapColumns(e, func(c sql.ColumnRef) sql.ColumnRef { used[c.Table] = true; return c })
+		}
+	}
+	notNull := map[sql.ColumnRef]bool{}
+	for v, bd := range b.vars {
+		needed := indexOfVar(vars, v) >= 0
+		for _, o := range bd.alts {
+			for i, e := range o.exprs {
+				if c, ok := e.(sql.ColumnRef); ok && o.cols[i].NotNull {
+					notNull[c] = true
+				}
+				if needed {
+					note(e)
+				}
+			}
+			if needed {
+				note(o.marker)
+			}
+		}
+	}
+	for _, c := range b.checks {
+		for _, e := range c.occ.exprs {
+			note(e)
+		}
+	}
+	tables := map[string]*sql.Table{}
+	for _, f := range b.from {
+		switch f := f.(type) {
+		case *sql.Table:
+			tables[f.Alias] = f
+		case *sql.LeftJoin:
+			return b // its condition may read any table
+		}
+	}
+	for _, w := range b.where {
+		if opaque(w) {
+			return b
+		}
+	}
+	for _, t := range tables {
+		if used[t.Alias] {
+			continue
+		}
+		if pruned, ok := q.pruneTable(b, t, tables, notNull); ok {
+			return q.pruneTables(pruned, vars)
+		}
+	}
+	return b
+}
+
+// pruneTable drops t from b when the foreign key rule of pruneTables allows.
+func (q *query) pruneTable(b *branch, t *sql.Table, tables map[string]*sql.Table, notNull map[sql.ColumnRef]bool) (*branch, bool) {
+	var child *sql.Table
+	pairs := map[string]string{} // t's column → the child's column
+	var kept []sql.Expr
+	for _, w := range b.where {
+		reads := false
+		sql.MapColumns(w, func(c sql.ColumnRef) sql.ColumnRef { reads = reads || c.Table == t.Alias; return c })
+		if !reads {
+			kept = append(kept, w)
+			continue
+		}
+		if n, ok := w.(sql.IsNull); ok && n.Not {
+			if c, ok := n.X.(sql.ColumnRef); ok && notNull[c] {
+				continue // always true
+			}
+			return nil, false
+		}
+		eq, ok := w.(sql.Binary)
+		l, lok := eq.L.(sql.ColumnRef)
+		r, rok := eq.R.(sql.ColumnRef)
+		if !ok || eq.Op != "=" || !lok || !rok {
+			return nil, false
+		}
+		if l.Table == t.Alias {
+			l, r = r, l
+		}
+		if r.Table != t.Alias || l.Table == t.Alias || tables[l.Table] == nil || (child != nil && child.Alias != l.Table) {
+			return nil, false
+		}
+		child = tables[l.Table]
+		pairs[r.Column.Name] = l.Column.Name
+	}
+	if child == nil || !q.keyFixed(t, func(col string) bool { _, ok := pairs[col]; return ok }) ||
+		!q.declaresReference(child, t, pairs) {
+		return nil, false
+	}
+	out := *b
+	out.from = nil
+	for _, f := range b.from {
+		if f != sql.From(t) {
+			out.from = append(out.from, f)
+		}
+	}
+	out.where = kept
+	for _, c := range pairs {
+		out.where = append(out.where, sql.IsNull{X: colRef(child.Alias, c), Not: true})
+	}
+	return &out, true
+}
+
+// declaresReference reports whether a foreign key of child's table references
+// parent's table on exactly the column pairs (parent column → child column).
+func (q *query) declaresReference(child, parent *sql.Table, pairs map[string]string) bool {
+	ct, ok := q.pl.tables[child.Key]
+	pt, pok := q.pl.tables[parent.Key]
+	if !ok || !pok || ct.Query != "" || pt.Query != "" {
+		return false
+	}
+	parentName, err := catalog.ParseName(pt.TableName)
+	if err != nil || len(parentName) != 1 {
+		return false
+	}
+	for _, fk := range q.pl.cols.ForeignKeys(ct) {
+		if !parentName[0].Matches(fk.RefTable) || len(fk.Columns) != len(pairs) {
+			continue
+		}
+		match := true
+		for i, c := range fk.Columns {
+			match = match && pairs[fk.RefColumns[i]] == c
+		}
+		if match {
+			return true
+		}
+	}
+	return false
+}
+
+// opaque reports whether a condition may read columns that sql.MapColumns
+// does not show (a Late condition, a sub-query), or is of a kind this file
+// does not know.
+func opaque(e sql.Expr) bool {
+	switch e := e.(type) {
+	case sql.ColumnRef, sql.Param, sql.Int, sql.Null:
+		return false
+	case sql.Binary:
+		return opaque(e.L) || opaque(e.R)
+	case sql.Not:
+		return opaque(e.X)
+	case sql.IsNull:
+		return opaque(e.X)
+	case sql.Cast:
+		return opaque(e.X)
+	case sql.Collate:
+		return opaque(e.X)
+	case sql.StrTest:
+		return opaque(e.X) || opaque(e.Arg)
+	case sql.In:
+		for _, x := range e.List {
+			if opaque(x) {
+				return true
+			}
+		}
+		return opaque(e.X)
+	case sql.Func:
+		for _, x := range e.Args {
+			if opaque(x) {
+				return true
+			}
+		}
+		return false
+	case sql.Case:
+		return opaque(e.When) || opaque(e.Then)
+	}
+	return true
+}

@@ -88,8 +88,10 @@ type Planner struct {
 	dialect   source.Dialect
 	producers []producer
 	limits    Limits
-	// keys are the column sets that determine a row, by logical table key.
-	keys map[string][][]string
+	// keys are the column sets that determine a row, and tables the logical
+	// tables, by logical table key.
+	keys   map[string][][]string
+	tables map[string]catalog.LogicalTable
 	// cache holds the plans of recent requests.
 	cache *planCache
 }
@@ -102,9 +104,11 @@ const planCacheSize = 512
 // source (catalog.ProbeColumns).
 func NewPlanner(cat *catalog.Catalog, cols *catalog.Columns, d source.Dialect) *Planner {
 	pl := &Planner{cat: cat, cols: cols, dialect: d, producers: producersOf(cat),
-		limits: DefaultLimits(), keys: map[string][][]string{}, cache: newPlanCache(planCacheSize)}
+		limits: DefaultLimits(), keys: map[string][][]string{}, tables: map[string]catalog.LogicalTable{},
+		cache: newPlanCache(planCacheSize)}
 	for _, tm := range cat.Maps {
 		pl.keys[tm.Table.Key()] = cols.Keys(tm.Table)
+		pl.tables[tm.Table.Key()] = tm.Table
 	}
 	return pl
 }
@@ -140,8 +144,9 @@ func (pl *Planner) Plan(q *algebra.Query) (*Plan, error) {
 func (pl *Planner) plan(q *algebra.Query, qs *query) (*Plan, error) {
 	pattern := q.Root
 	if q.Form == algebra.Ask {
-		// ASK needs one solution at most: the SQL stops at the first row.
-		pattern = algebra.Slice{Input: pattern, Limit: 1}
+		// ASK needs one solution at most, and none of its variables: the SQL
+		// reads no more than it must and stops at the first row.
+		pattern = algebra.Slice{Input: algebra.Project{Input: pattern, Vars: []algebra.Var{}}, Limit: 1}
 	}
 	root, err := qs.op(pattern, nil)
 	if err != nil {

@@ -246,6 +246,13 @@ func (q *query) closeRel(r *rel, mod modifiers) (*closed, bool) {
 		}
 		return q.closeRel(d, mod)
 	}
+	if len(vars) < len(r.vars) {
+		pruned := &rel{vars: r.vars, dedup: r.dedup}
+		for _, b := range r.branches {
+			pruned.branches = append(pruned.branches, q.pruneTables(b, vars))
+		}
+		r = pruned
+	}
 	c := &closed{}
 	type alloc struct{ start int }
 	allocs := map[string]alloc{}
@@ -298,6 +305,13 @@ func (q *query) closeRel(r *rel, mod modifiers) (*closed, bool) {
 		var ok bool
 		if order, ok = mod.order(c.slots); !ok {
 			return nil, false
+		}
+	}
+	if len(c.types) == 0 {
+		// No variable is read: a row per solution still.
+		c.types = []source.Column{{DatabaseType: "INTEGER", Kind: source.TypeInteger, NotNull: true}}
+		for bi := range cells {
+			cells[bi][0] = sql.Int(1)
 		}
 	}
 	distinct := mod.distinct || r.dedup
