@@ -19,6 +19,8 @@ import (
 // pgSource is a PostgreSQL source on a pgx pool.
 type pgSource struct {
 	pool *pgxpool.Pool
+	// maxConns is the pool's size.
+	maxConns int32
 }
 
 var _ Source = (*pgSource)(nil)
@@ -68,7 +70,7 @@ func openPostgres(dsn string, o options) (Source, error) {
 	if err != nil {
 		return nil, err
 	}
-	return &pgSource{pool: pool}, nil
+	return &pgSource{pool: pool, maxConns: cfg.MaxConns}, nil
 }
 
 // Dialect implements Source.
@@ -88,7 +90,7 @@ func (s *pgSource) Close() error {
 // types without a TypeKind their PostgreSQL spelling.
 func (s *pgSource) Query(ctx context.Context, sql string, args ...any) (Rows, error) {
 	hints, args := splitKinds(args)
-	tx, err := s.pool.BeginTx(ctx, pgx.TxOptions{AccessMode: pgx.ReadOnly})
+	tx, err := s.begin(ctx)
 	if err != nil {
 		return nil, queryError(ctx, "postgres: begin read-only transaction", err)
 	}
@@ -107,6 +109,22 @@ func (s *pgSource) Query(ctx context.Context, sql string, args ...any) (Rows, er
 	applyKinds(r.cols, hints)
 	r.vals = make([]any, len(fields))
 	return r, nil
+}
+
+// begin starts a read-only transaction. A pooled connection that the server
+// closed while it sat idle (a restart, pg_terminate_backend) fails on its
+// first use, before any statement of ours ran, and the pool drops it; so a
+// failure of an existing connection is tried again, once per connection the
+// pool may hold, while a failure to connect is not.
+func (s *pgSource) begin(ctx context.Context) (tx pgx.Tx, err error) {
+	var connectErr *pgconn.ConnectError
+	for range s.maxConns + 1 {
+		tx, err = s.pool.BeginTx(ctx, pgx.TxOptions{AccessMode: pgx.ReadOnly})
+		if err == nil || ctx.Err() != nil || !IsUnavailable(err) || errors.As(err, &connectErr) {
+			break
+		}
+	}
+	return tx, err
 }
 
 // pgTypeName returns the name of the type with the given OID as pgx knows it,

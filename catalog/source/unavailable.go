@@ -34,7 +34,9 @@ func IsUnavailable(err error) bool {
 	}
 	var connErr *pgconn.ConnectError
 	var netErr net.Error
-	return errors.As(err, &connErr) || errors.As(err, &netErr) ||
+	// pgx reports a pooled connection that broke while it sat idle as
+	// ErrConnClosed when it is next used.
+	return errors.As(err, &connErr) || errors.As(err, &netErr) || errors.Is(err, pgconn.ErrConnClosed) ||
 		errors.Is(err, driver.ErrBadConn) || errors.Is(err, mysql.ErrInvalidConn) ||
 		errors.Is(err, io.EOF) || errors.Is(err, io.ErrUnexpectedEOF)
 }

@@ -17,6 +17,7 @@ import (
 
 	"go.yaml.in/yaml/v3"
 
+	"veneer/catalog/source"
 	"veneer/server"
 )
 
@@ -40,11 +41,45 @@ type config struct {
 }
 
 // sourceConf is one database and the mappings over it. Only one source is
-// served for now.
+// served for now. With replicas, db is the primary and queries are spread
+// over it and the replicas that answer (source.Group); max_conns then
+// bounds each member's pool.
 type sourceConf struct {
-	DB       string   `yaml:"db"`
-	Mappings []string `yaml:"mappings"`
-	MaxConns int      `yaml:"max_conns"`
+	DB          string        `yaml:"db"`
+	Replicas    []replicaConf `yaml:"replicas"`
+	MemberRetry retryConf     `yaml:"member_retry"`
+	Mappings    []string      `yaml:"mappings"`
+	MaxConns    int           `yaml:"max_conns"`
+}
+
+// replicaConf is a read replica of a source. Its name labels it in metrics
+// and logs (the DSN never does); it defaults to replica-N, N counting from 1.
+type replicaConf struct {
+	Name string `yaml:"name"`
+	DB   string `yaml:"db"`
+}
+
+// retryConf says how a member of a replicated source that failed is tried
+// again: after First, then after twice as long each time, up to Max.
+type retryConf struct {
+	First time.Duration `yaml:"first"`
+	Max   time.Duration `yaml:"max"`
+}
+
+// primaryName is the member name of a replicated source's db.
+const primaryName = "primary"
+
+// members lists the database of the source and its replicas, named.
+func (sc *sourceConf) members() []source.Member {
+	ms := []source.Member{{Name: primaryName, DSN: sc.DB}}
+	for i, r := range sc.Replicas {
+		name := r.Name
+		if name == "" {
+			name = fmt.Sprintf("replica-%d", i+1)
+		}
+		ms = append(ms, source.Member{Name: name, DSN: r.DB})
+	}
+	return ms
 }
 
 type limitsConf struct {
@@ -146,6 +181,21 @@ var options = []option{
 	{flag: "mapping", env: "VENEER_MAPPINGS", source: true, list: true,
 		usage: "R2RML mapping file, repeatable; none serves the Direct Mapping (YAML sources[0].mappings)",
 		set:   func(c *config, v []string) error { c.source().Mappings = v; return nil }},
+	{flag: "replica", env: "VENEER_REPLICAS", source: true, list: true,
+		usage: "read replica DSN of the database, repeatable, named replica-1, replica-2, … (YAML sources[0].replicas)",
+		set: func(c *config, v []string) error {
+			c.source().Replicas = nil
+			for _, dsn := range v {
+				c.source().Replicas = append(c.source().Replicas, replicaConf{DB: dsn})
+			}
+			return nil
+		}},
+	{flag: "member-retry-first", env: "VENEER_MEMBER_RETRY_FIRST", source: true,
+		usage: "first wait before a failed database of a replicated source is tried again (YAML sources[0].member_retry.first)",
+		set:   dur(func(c *config) *time.Duration { return &c.source().MemberRetry.First })},
+	{flag: "member-retry-max", env: "VENEER_MEMBER_RETRY_MAX", source: true,
+		usage: "longest wait between tries of a failed database of a replicated source (YAML sources[0].member_retry.max)",
+		set:   dur(func(c *config) *time.Duration { return &c.source().MemberRetry.Max })},
 	{flag: "max-conns", env: "VENEER_MAX_CONNS", source: true, usage: "most connections to the database (YAML sources[0].max_conns)",
 		set: integer(func(c *config) *int { return &c.source().MaxConns })},
 	{flag: "base", env: "VENEER_BASE", source: true, usage: "base IRI of the Direct Mapping (YAML base)",
@@ -359,6 +409,11 @@ func (c *config) check() error {
 	case c.Service.Timeout < 0 || c.Service.MaxBytes < 0:
 		return errors.New("service: timeout and max_bytes cannot be negative")
 	}
+	for _, sc := range c.Sources {
+		if err := sc.checkMembers(); err != nil {
+			return err
+		}
+	}
 	for _, iri := range c.Service.Allow {
 		if u, err := url.Parse(iri); err != nil || (u.Scheme != "http" && u.Scheme != "https") || u.Host == "" {
 			return fmt.Errorf("service.allow: %q is not an http or https IRI", iri)
@@ -369,6 +424,28 @@ func (c *config) check() error {
 	}
 	if c.Log.Format != "json" && c.Log.Format != "text" {
 		return fmt.Errorf("log format %q: use json or text", c.Log.Format)
+	}
+	return nil
+}
+
+// checkMembers rejects replicas without a database, two members of one
+// name, and negative waits.
+func (sc *sourceConf) checkMembers() error {
+	if len(sc.Replicas) > 0 && sc.DB == "" {
+		return errors.New("sources[0]: replicas need the primary's db")
+	}
+	seen := map[string]bool{}
+	for i, m := range sc.members() {
+		if i > 0 && m.DSN == "" {
+			return fmt.Errorf("sources[0].replicas[%d] (%s): no db", i-1, m.Name)
+		}
+		if seen[m.Name] {
+			return fmt.Errorf("sources[0].replicas: two members are named %q", m.Name)
+		}
+		seen[m.Name] = true
+	}
+	if sc.MemberRetry.First < 0 || sc.MemberRetry.Max < 0 {
+		return errors.New("sources[0].member_retry: waits cannot be negative")
 	}
 	return nil
 }

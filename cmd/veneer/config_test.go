@@ -146,3 +146,59 @@ func TestTokensFromFileAndEnvironment(t *testing.T) {
 		t.Errorf("a bad token in %s: %v (and the error must not show it)", tokensEnv, err)
 	}
 }
+
+func TestReplicaConfig(t *testing.T) {
+	const replicated = `
+sources:
+  - db: postgres://veneer@primary.internal/maintenance
+    replicas:
+      - name: east
+        db: postgres://veneer@replica-east.internal/maintenance
+      - db: postgres://veneer@replica-west.internal/maintenance
+    member_retry:
+      first: 250ms
+      max: 20s
+`
+	c, err := load(t, replicated, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	sc := c.Sources[0]
+	names := func(sc sourceConf) (out []string) {
+		for _, m := range sc.members() {
+			out = append(out, m.Name+"="+m.DSN)
+		}
+		return out
+	}
+	want := []string{"primary=postgres://veneer@primary.internal/maintenance",
+		"east=postgres://veneer@replica-east.internal/maintenance",
+		"replica-2=postgres://veneer@replica-west.internal/maintenance"}
+	if !slices.Equal(names(sc), want) || sc.MemberRetry != (retryConf{First: 250 * time.Millisecond, Max: 20 * time.Second}) {
+		t.Errorf("from the file: %v %+v", names(sc), sc.MemberRetry)
+	}
+	// The variable replaces the file's list, the flag the variable's.
+	c, err = load(t, replicated, map[string]string{"VENEER_REPLICAS": "mysql://r1/db, mysql://r2/db", "VENEER_MEMBER_RETRY_MAX": "3s"},
+		"--replica", "mysql://r9/db", "--member-retry-first", "1s")
+	if err != nil {
+		t.Fatal(err)
+	}
+	sc = c.Sources[0]
+	if got := names(sc); !slices.Equal(got, []string{"primary=postgres://veneer@primary.internal/maintenance", "replica-1=mysql://r9/db"}) ||
+		sc.MemberRetry != (retryConf{First: time.Second, Max: 3 * time.Second}) {
+		t.Errorf("layered: %v %+v", got, sc.MemberRetry)
+	}
+	c, err = load(t, "", map[string]string{"VENEER_DB": "mysql://p/db", "VENEER_REPLICAS": "mysql://r1/db,mysql://r2/db"})
+	if err != nil || !slices.Equal(names(c.Sources[0]), []string{"primary=mysql://p/db", "replica-1=mysql://r1/db", "replica-2=mysql://r2/db"}) {
+		t.Errorf("from the environment: %v %v", err, names(c.Sources[0]))
+	}
+	for _, bad := range []struct{ yaml, want string }{
+		{"sources:\n  - replicas:\n      - db: mysql://r/db\n", "replicas need the primary's db"},
+		{"sources:\n  - db: mysql://p/db\n    replicas:\n      - name: east\n", "replicas[0] (east): no db"},
+		{"sources:\n  - db: mysql://p/db\n    replicas:\n      - {name: primary, db: mysql://r/db}\n", `two members are named "primary"`},
+		{"sources:\n  - db: mysql://p/db\n    member_retry: {first: -1s}\n", "cannot be negative"},
+	} {
+		if _, err := load(t, bad.yaml, nil); err == nil || !strings.Contains(err.Error(), bad.want) {
+			t.Errorf("%q: error %v, want %q", bad.yaml, err, bad.want)
+		}
+	}
+}

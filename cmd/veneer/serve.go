@@ -42,7 +42,7 @@ func runServe(ctx context.Context, args []string, stdout, stderr io.Writer) erro
 	if sc.DB == "" {
 		return errNoDatabase("serve")
 	}
-	src, err := openSource(ctx, sc)
+	src, err := openSource(ctx, sc, source.OnMemberChange(logMemberChange(newLogger(c, stderr))))
 	if err != nil {
 		return err
 	}
@@ -51,13 +51,29 @@ func runServe(ctx context.Context, args []string, stdout, stderr io.Writer) erro
 	return serve(ctx, c, src, load, console.Options{}, stderr, nil)
 }
 
-// openSource opens the configured database.
-func openSource(ctx context.Context, sc *sourceConf) (source.Source, error) {
-	var opts []source.Option
+// openSource opens the configured database, or the group of it and its
+// replicas when it has some; opts are added to those the configuration sets.
+func openSource(ctx context.Context, sc *sourceConf, opts ...source.Option) (source.Source, error) {
 	if sc.MaxConns > 0 {
 		opts = append(opts, source.MaxConns(sc.MaxConns))
 	}
-	return source.Open(ctx, sc.DB, opts...)
+	if len(sc.Replicas) == 0 {
+		return source.Open(ctx, sc.DB, opts...)
+	}
+	opts = append(opts, source.RetryBackoff(sc.MemberRetry.First, sc.MemberRetry.Max))
+	return source.OpenGroup(ctx, sc.members(), opts...)
+}
+
+// logMemberChange logs the members of a replicated source going out of
+// service and coming back.
+func logMemberChange(log *slog.Logger) func(source.MemberChange) {
+	return func(m source.MemberChange) {
+		if m.Up {
+			log.Info("database back in service", "member", m.Name)
+		} else {
+			log.Warn("database taken out of service; it is tried again later", "member", m.Name, "err", m.Err)
+		}
+	}
 }
 
 // loadCatalog reads the R2RML mappings, or builds the Direct Mapping of the
@@ -163,6 +179,9 @@ func serve(ctx context.Context, c *config, src source.Source, load func(context.
 	scfg.Tokens, scfg.Reload, scfg.Console = tokens, build, page
 	reg := prometheus.NewRegistry()
 	reg.MustRegister(collectors.NewGoCollector(), collectors.NewProcessCollector(collectors.ProcessCollectorOpts{}))
+	if g, ok := src.(*source.Group); ok {
+		reg.MustRegister(g.Collector("default"))
+	}
 	srv, err := server.New(scfg, engine, log, reg, reg)
 	if err != nil {
 		return err
