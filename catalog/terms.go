@@ -24,9 +24,18 @@ func iriSafe(b byte) bool {
 // IRISafe percent-encodes every character of s that is not iunreserved, as R2RML
 // §7.3 requires for column values placed into IRI templates.
 func IRISafe(s string) string {
+	safe := 0
+	for safe < len(s) && iriSafe(s[safe]) {
+		safe++
+	}
+	if safe == len(s) {
+		return s // nothing to encode, as with most keys
+	}
 	var b strings.Builder
+	b.Grow(len(s) + 8)
+	b.WriteString(s[:safe])
 	const hexDigits = "0123456789ABCDEF"
-	for i := 0; i < len(s); i++ {
+	for i := safe; i < len(s); i++ {
 		c := s[i]
 		if iriSafe(c) {
 			b.WriteByte(c)
@@ -69,6 +78,11 @@ func unIRISafe(s string) (string, bool) {
 // Parts. With iri set, values are IRI-safe encoded (R2RML §7.3).
 func (t Template) Expand(values map[string]string, iri bool) string {
 	var b strings.Builder
+	n := 0
+	for _, p := range t.Parts {
+		n += len(p.Text) + len(values[p.Column])
+	}
+	b.Grow(n)
 	for _, p := range t.Parts {
 		if p.Column == "" {
 			b.WriteString(p.Text)

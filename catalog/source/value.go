@@ -102,6 +102,9 @@ func isTimeOfDay(s string) bool {
 // zone is Z or an offset ±HH, ±HHMM, ±HH:MM or ±HH:MM:SS. Without a zone the
 // time is read as UTC.
 func parseTimestamp(s string) (time.Time, error) {
+	if t, ok := plainTimestamp(s); ok {
+		return t, nil
+	}
 	bad := fmt.Errorf("%q is not a timestamp", s)
 	if len(s) < len(time.DateOnly) {
 		return time.Time{}, bad
@@ -136,6 +139,55 @@ func parseTimestamp(s string) (time.Time, error) {
 		return time.Time{}, bad
 	}
 	return t, nil
+}
+
+// plainTimestamp reads the form databases print timestamps without a zone in,
+// "YYYY-MM-DD HH:MM:SS" with up to nine digits of fraction, directly: a large
+// answer holds many of them. Other text is not for it (ok false).
+func plainTimestamp(s string) (t time.Time, ok bool) {
+	if len(s) < len("2006-01-02 15:04:05") || len(s) > len("2006-01-02 15:04:05.999999999") ||
+		s[4] != '-' || s[7] != '-' || s[10] != ' ' || s[13] != ':' || s[16] != ':' {
+		return time.Time{}, false
+	}
+	num := func(from, to int) (int, bool) {
+		n := 0
+		for i := from; i < to; i++ {
+			c := s[i]
+			if c < '0' || c > '9' {
+				return 0, false
+			}
+			n = n*10 + int(c-'0')
+		}
+		return n, true
+	}
+	year, ok1 := num(0, 4)
+	month, ok2 := num(5, 7)
+	day, ok3 := num(8, 10)
+	hour, ok4 := num(11, 13)
+	minute, ok5 := num(14, 16)
+	sec, ok6 := num(17, 19)
+	nsec := 0
+	if len(s) > 19 {
+		if s[19] != '.' || len(s) == 20 {
+			return time.Time{}, false
+		}
+		frac, ok := num(20, len(s))
+		if !ok {
+			return time.Time{}, false
+		}
+		for range 9 - (len(s) - 20) {
+			frac *= 10
+		}
+		nsec = frac
+	}
+	if !ok1 || !ok2 || !ok3 || !ok4 || !ok5 || !ok6 || month < 1 || month > 12 || day < 1 || hour > 23 || minute > 59 || sec > 59 {
+		return time.Time{}, false
+	}
+	t = time.Date(year, time.Month(month), day, hour, minute, sec, nsec, time.UTC)
+	if t.Day() != day {
+		return time.Time{}, false // past the month's end: the general parser says why
+	}
+	return t, true
 }
 
 // parseOffset reads a zone offset ±HH, ±HHMM, ±HH:MM or ±HH:MM:SS into seconds.

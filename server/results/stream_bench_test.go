@@ -18,6 +18,7 @@ import (
 	"testing"
 	"time"
 
+	"github.com/jackc/pgx/v5/pgxpool"
 	"github.com/prometheus/client_golang/prometheus"
 	_ "modernc.org/sqlite"
 
@@ -82,15 +83,29 @@ func scanOf(tb testing.TB, op rewrite.Op) *rewrite.Scan {
 // database/sql; "source" is veneer's source layer reading them (read-only
 // transaction, value normalisation); the formats are the whole path, SQL to
 // terms to a document, without the network.
+// BenchmarkStream measures streaming on SQLite, and on PostgreSQL when
+// VENEER_TEST_POSTGRES names a server (the benchmark database veneer_bench_sf1
+// is loaded there unless it holds SF 1 already).
 func BenchmarkStream(b *testing.B) {
-	path := filepath.Join(b.TempDir(), "stream.db")
-	target, err := gen.TargetFor("sqlite:"+path, streamSF)
+	b.Run("sqlite", func(b *testing.B) {
+		benchStream(b, "sqlite:"+filepath.Join(b.TempDir(), "stream.db"))
+	})
+	if dsn := os.Getenv("VENEER_TEST_POSTGRES"); dsn != "" {
+		b.Run("postgres", func(b *testing.B) { benchStream(b, dsn) })
+	}
+}
+
+// benchStream measures streaming on the benchmark database of dsn's server.
+func benchStream(b *testing.B, dsn string) {
+	target, err := gen.TargetFor(dsn, streamSF)
 	if err != nil {
 		b.Fatal(err)
 	}
 	ctx := context.Background()
-	if _, err := gen.Load(ctx, target, streamSF, io.Discard); err != nil {
-		b.Fatal(err)
+	if !gen.Loaded(ctx, target, streamSF) {
+		if _, err := gen.Load(ctx, target, streamSF, io.Discard); err != nil {
+			b.Fatal(err)
+		}
 	}
 	src, err := source.Open(ctx, target.DSN)
 	if err != nil {
@@ -110,33 +125,11 @@ func BenchmarkStream(b *testing.B) {
 		b.ReportMetric(float64(rows/b.N), "rows/op")
 	}
 	b.Run("raw-scan", func(b *testing.B) {
-		db, err := sql.Open("sqlite", "file:"+path+"?mode=ro")
-		if err != nil {
-			b.Fatal(err)
-		}
-		defer db.Close()
+		scanRows, done := rawScanner(b, target)
+		defer done()
 		rows := 0
 		for b.Loop() {
-			rs, err := db.QueryContext(ctx, scan.SQL, scan.Args...)
-			if err != nil {
-				b.Fatal(err)
-			}
-			cols, _ := rs.Columns()
-			dest := make([]any, len(cols))
-			ptrs := make([]any, len(cols))
-			for i := range dest {
-				ptrs[i] = &dest[i]
-			}
-			for rs.Next() {
-				if err := rs.Scan(ptrs...); err != nil {
-					b.Fatal(err)
-				}
-				rows++
-			}
-			if err := rs.Err(); err != nil {
-				b.Fatal(err)
-			}
-			rs.Close()
+			rows += scanRows(ctx, scan.SQL, scan.Args)
 		}
 		report(b, rows)
 	})
@@ -172,6 +165,66 @@ func BenchmarkStream(b *testing.B) {
 			b.ReportMetric(float64(bytes)/float64(rows), "bytes/row")
 		})
 	}
+}
+
+// rawScanner opens the driver veneer's source uses for target's database
+// without veneer, and returns a function that runs a statement and scans
+// every row into Go values, as a program using the driver alone would, and
+// returns the rows.
+func rawScanner(b *testing.B, target gen.Target) (func(context.Context, string, []any) int, func()) {
+	b.Helper()
+	if target.Dialect == "postgres" {
+		pool, err := pgxpool.New(context.Background(), target.DSN)
+		if err != nil {
+			b.Fatal(err)
+		}
+		return func(ctx context.Context, query string, args []any) int {
+			rs, err := pool.Query(ctx, query, args...)
+			if err != nil {
+				b.Fatal(err)
+			}
+			defer rs.Close()
+			n := 0
+			for rs.Next() {
+				if _, err := rs.Values(); err != nil {
+					b.Fatal(err)
+				}
+				n++
+			}
+			if err := rs.Err(); err != nil {
+				b.Fatal(err)
+			}
+			return n
+		}, pool.Close
+	}
+	db, err := sql.Open("sqlite", "file:"+strings.TrimPrefix(target.DSN, "sqlite:")+"?mode=ro")
+	if err != nil {
+		b.Fatal(err)
+	}
+	return func(ctx context.Context, query string, args []any) int {
+		rs, err := db.QueryContext(ctx, query, args...)
+		if err != nil {
+			b.Fatal(err)
+		}
+		defer rs.Close()
+		cols, _ := rs.Columns()
+		dest := make([]any, len(cols))
+		ptrs := make([]any, len(cols))
+		for i := range dest {
+			ptrs[i] = &dest[i]
+		}
+		n := 0
+		for rs.Next() {
+			if err := rs.Scan(ptrs...); err != nil {
+				b.Fatal(err)
+			}
+			n++
+		}
+		if err := rs.Err(); err != nil {
+			b.Fatal(err)
+		}
+		return n
+	}, func() { db.Close() }
 }
 
 // streamOnce answers a query in format f into w and returns the solutions.
