@@ -20,6 +20,9 @@ func (q *query) group(r *rel, n algebra.Group) *rel {
 	if !ok || len(r.branches) == 0 {
 		return nil // an empty input still makes one group without keys: in-process
 	}
+	if counted := q.countsSummed(r, n); counted != nil {
+		return counted
+	}
 	reads := groupReads(n)
 	if len(r.branches) != 1 {
 		if r, ok = q.derived(r, modifiers{vars: reads, limit: -1}); !ok {
@@ -85,6 +88,44 @@ func (q *query) group(r *rel, n algebra.Group) *rel {
 	}
 	if len(sel.Columns) == 0 {
 		sel.Columns = []sql.Column{{Expr: sql.Int(1), Alias: "c0"}}
+	}
+	return res
+}
+
+// countsSummed expresses COUNT(*) without GROUP BY over a union whose
+// branches cannot repeat a solution of another (r is deduped) as the sum of
+// one COUNT per branch, the statement a federation engine's cardinality probe
+// deserves: each table is counted on its own, its joins pruned. nil when the
+// group is not of that form.
+func (q *query) countsSummed(r *rel, n algebra.Group) *rel {
+	if len(n.Keys) > 0 || len(n.Aggs) == 0 || len(r.branches) < 2 || r.hasChecks() {
+		return nil
+	}
+	for _, a := range n.Aggs {
+		if a.Agg.Name != "COUNT" || a.Agg.Arg != nil || a.Agg.Distinct {
+			return nil
+		}
+	}
+	inner := q.alias("n")
+	count := sql.Column{Expr: sql.Agg{Name: "COUNT"}, Alias: "c0"}
+	union := &sql.Union{All: true}
+	for _, b := range r.branches {
+		b = q.pruneTables(b, []algebra.Var{})
+		union.Selects = append(union.Selects, &sql.Select{Columns: []sql.Column{count},
+			From: b.from, Where: sql.And(uniqueConds(b.where)...)})
+	}
+	ref := sql.ColumnRef{Table: inner, Column: catalog.Ident{Name: "c0", Quoted: true}}
+	sum := &sql.Select{Columns: []sql.Column{{Expr: sql.Agg{Name: "SUM", Arg: ref}, Alias: "c0"}},
+		From: []sql.From{&sql.Derived{Stmt: union, Alias: inner}}}
+	alias := q.alias("g")
+	out := &branch{from: []sql.From{&sql.Derived{Stmt: sum, Alias: alias}}, vars: map[algebra.Var]binding{}}
+	res := &rel{branches: []*branch{out}}
+	m := catalog.TermMap{Kind: catalog.Column, Column: "value", TermType: rdf.KindLiteral}
+	t := source.Column{DatabaseType: "BIGINT", Kind: source.TypeInteger}
+	total := sql.ColumnRef{Table: alias, Column: catalog.Ident{Name: "c0", Quoted: true}}
+	for _, a := range n.Aggs {
+		out.vars[a.Var] = binding{alts: []occurrence{{m: m, exprs: []sql.Expr{total}, cols: []source.Column{t}}}}
+		res.addVar(a.Var)
 	}
 	return res
 }
