@@ -40,11 +40,11 @@ var errReadOnly = &problem{
 	msg:    "this endpoint is read-only: SPARQL Update requests are not accepted",
 }
 
-// isQueryRequest reports whether a GET request carries a query or an update
-// operation; one that does not asks for the service description.
-func isQueryRequest(r *http.Request) bool {
-	q := r.URL.Query()
-	return q.Has("query") || q.Has("update")
+// isQueryRequest reports whether the URL parameters of a GET request carry a
+// query or an update operation; one that does not asks for the service
+// description.
+func isQueryRequest(params url.Values) bool {
+	return params.Has("query") || params.Has("update")
 }
 
 // readOperation reads the query operation of a SPARQL 1.1 Protocol request
@@ -56,9 +56,9 @@ func isQueryRequest(r *http.Request) bool {
 // repeated query parameter (§2.1.4: exactly one), a body of another media type
 // (415), a charset other than UTF-8 (the protocol's bodies are UTF-8), text
 // that is not UTF-8, a query or body over the configured limits (413), or a
-// dataset or timeout parameter that does not parse.
-func (s *Server) readOperation(w http.ResponseWriter, r *http.Request, base string) (*operation, error) {
-	params := r.URL.Query()
+// dataset or timeout parameter that does not parse. params are the request
+// URL's parameters.
+func (s *Server) readOperation(w http.ResponseWriter, r *http.Request, params url.Values, base string) (*operation, error) {
 	var text string
 	switch r.Method {
 	case http.MethodGet:

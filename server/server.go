@@ -177,17 +177,18 @@ func (s *Server) ready(w http.ResponseWriter, r *http.Request) error {
 // nothing about the data.
 func (s *Server) sparql(w http.ResponseWriter, r *http.Request) error {
 	endpoint := s.endpointURL(r)
-	if (r.Method == http.MethodGet || r.Method == http.MethodHead) && !isQueryRequest(r) {
+	params := r.URL.Query()
+	if (r.Method == http.MethodGet || r.Method == http.MethodHead) && !isQueryRequest(params) {
 		return s.describe(w, r, endpoint)
 	}
-	if r.URL.Query().Has("explain") {
+	if params.Has("explain") {
 		// /sparql?explain&query=…: how the query would be answered, not the answer.
 		return s.explain(w, r)
 	}
 	if err := s.auth.check(r); err != nil {
 		return err
 	}
-	op, err := s.readOperation(w, r, endpoint)
+	op, err := s.readOperation(w, r, params, endpoint)
 	if err != nil {
 		return err
 	}
@@ -305,7 +306,7 @@ func (s *Server) explain(w http.ResponseWriter, r *http.Request) error {
 	if err := s.auth.check(r); err != nil {
 		return err
 	}
-	op, err := s.readOperation(w, r, s.endpointURL(r))
+	op, err := s.readOperation(w, r, r.URL.Query(), s.endpointURL(r))
 	if err != nil {
 		return err
 	}

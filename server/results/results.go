@@ -68,10 +68,13 @@ type GraphWriter interface {
 
 // Flush thresholds. 32 KiB keeps the number of network writes low for fast
 // answers; 512 rows bounds how long a client waits for a slow answer with
-// short rows. Neither value comes from a specification.
+// short rows. A buffer starts at startBytes and grows as an answer needs:
+// most answers of dashboards and federation engines are small. None of the
+// values comes from a specification.
 const (
 	flushBytes = 32 << 10
 	flushRows  = 512
+	startBytes = 4 << 10
 )
 
 // sink is the buffer between a writer and its io.Writer, and the flush policy.
@@ -83,7 +86,7 @@ type sink struct {
 }
 
 func newSink(w io.Writer) sink {
-	s := sink{w: w, buf: make([]byte, 0, flushBytes+flushBytes/4)}
+	s := sink{w: w, buf: make([]byte, 0, startBytes)}
 	switch f := w.(type) {
 	case interface{ Flush() error }:
 		s.flush = f.Flush
@@ -100,7 +103,7 @@ func (s *sink) send() error {
 		_, err := s.w.Write(s.buf)
 		if cap(s.buf) > 4*flushBytes {
 			// One huge row grew the buffer; do not hold on to it.
-			s.buf = make([]byte, 0, flushBytes+flushBytes/4)
+			s.buf = make([]byte, 0, startBytes)
 		}
 		s.buf = s.buf[:0]
 		if err != nil {
