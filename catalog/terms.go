@@ -461,6 +461,13 @@ func ParseLexical(lexical string, kind source.TypeKind) (any, bool) {
 			return nil, false
 		}
 		v = b
+	case source.TypeDecimal:
+		// canonicalDecimal leaves text that is not a number as it is, which
+		// the round trip below would take for canonical.
+		if _, ok := new(big.Rat).SetString(lexical); !ok {
+			return nil, false
+		}
+		v = lexical
 	case source.TypeDate, source.TypeTimestamp, source.TypeTimestampTZ:
 		layout := map[source.TypeKind]string{
 			source.TypeDate:        "2006-01-02",

@@ -410,6 +410,12 @@ func regexFn(r *run, a []rdf.Term) (rdf.Term, error) {
 	if err != nil {
 		return nil, err
 	}
+	// Go's matcher takes time in proportion to the pattern's length times the
+	// text's, minutes for long ones; a pattern without flags or metacharacters
+	// (F&O §5.6.1) matches where it is a substring.
+	if p, _ := simpleLiteral(a[1]); flags == nil && !strings.ContainsAny(p, `\|.-^?*+{}()[]$`) {
+		return boolTerm(strings.Contains(text.Lexical, p)), nil
+	}
 	return boolTerm(re.re.MatchString(text.Lexical)), nil
 }
 
