@@ -1,7 +1,9 @@
 package rewrite
 
 import (
+	"math"
 	"strings"
+	"time"
 
 	"veneer/catalog"
 	"veneer/catalog/rdf"
@@ -312,12 +314,38 @@ func (q *query) valueConds(o occurrence, lexicals map[string]string) ([]sql.Expr
 	for _, name := range o.m.Columns() {
 		e, col := o.col(name)
 		v, ok := catalog.ParseLexical(lexicals[name], col.Kind)
-		if !ok {
+		if !ok || !q.pl.holds(col, v) {
 			return nil, false
 		}
 		out = append(out, sql.Binary{Op: "=", Exact: stringKind(col.Kind), L: e, R: sql.Param{Value: q.pl.param(v, col)}})
 	}
 	return out, true
+}
+
+// holds reports whether the column can hold v, the value ParseLexical read for
+// its kind: PostgreSQL's text cannot hold NUL, its INTEGER and SMALLINT hold 32
+// and 16 bits, and no source keeps a date before year 1 (the year 0 of XSD 1.1
+// is 1 BCE, which the dialects spell differently, if at all). A value a column
+// cannot hold equals none of its values; bound as a parameter the database
+// would refuse it.
+func (pl *Planner) holds(col source.Column, v any) bool {
+	switch v := v.(type) {
+	case string:
+		return pl.dialect != source.Postgres || strings.IndexByte(v, 0) < 0
+	case int64:
+		if pl.dialect != source.Postgres {
+			return true
+		}
+		switch strings.ToUpper(col.DatabaseType) {
+		case "INTEGER", "INT", "INT4", "SERIAL":
+			return v >= math.MinInt32 && v <= math.MaxInt32
+		case "SMALLINT", "INT2", "SMALLSERIAL":
+			return v >= math.MinInt16 && v <= math.MaxInt16
+		}
+	case time.Time:
+		return v.Year() >= 1
+	}
+	return true
 }
 
 // param adapts a normalised value to what the column's driver compares it with.

@@ -427,7 +427,8 @@ func (q *query) union(l, r *rel) *rel {
 	return out
 }
 
-// extend binds v in SQL when expr is a variable or a constant; false otherwise.
+// extend binds v in SQL when expr is a variable, a constant or a value SQL
+// computes (bindComputed); false otherwise.
 func (q *query) extend(r *rel, v algebra.Var, expr algebra.Expr) bool {
 	for _, b := range r.branches {
 		if _, bound := b.vars[v]; bound {
@@ -447,7 +448,7 @@ func (q *query) extend(r *rel, v algebra.Var, expr algebra.Expr) bool {
 			b.vars[v] = binding{alts: []occurrence{{m: m}}}
 		}
 	default:
-		return false
+		return q.bindComputed(r, v, expr)
 	}
 	r.addVar(v)
 	return true

@@ -1,7 +1,9 @@
 package rewrite
 
 import (
+	"math"
 	"strconv"
+	"strings"
 	"time"
 	"unicode/utf8"
 
@@ -147,6 +149,9 @@ func (q *query) exprSQL(b *branch, e algebra.Expr) (sql.Expr, bool) {
 		if lconst && rconst {
 			return nil, false // two constants: nothing to gain in SQL
 		}
+		if !q.fits(b, c.Args[0], r) || !q.fits(b, c.Args[1], l) {
+			return nil, false // a value the column cannot hold: compared in-process
+		}
 		op := c.Op
 		if op == "!=" {
 			op = "<>"
@@ -154,6 +159,18 @@ func (q *query) exprSQL(b *branch, e algebra.Expr) (sql.Expr, bool) {
 		return sql.Binary{Op: op, L: l, R: r, Exact: lc == classString}, true
 	}
 	return nil, false
+}
+
+// fits reports whether other, when it is a parameter compared with the
+// column of the variable side, is a value that column can hold (holds); the
+// database would refuse it otherwise.
+func (q *query) fits(b *branch, side algebra.Expr, other sql.Expr) bool {
+	p, isParam := other.(sql.Param)
+	v, isVar := side.(algebra.Var)
+	if !isParam || !isVar || len(b.vars[v].alts) != 1 || len(b.vars[v].alts[0].cols) != 1 {
+		return true
+	}
+	return q.pl.holds(b.vars[v].alts[0].cols[0], p.Value)
 }
 
 // termEquality handles ?v = <iri> and sameTerm-like tests of a variable built by a
@@ -190,10 +207,17 @@ func (q *query) termEquality(b *branch, c algebra.Call) (sql.Expr, bool) {
 	return eq, true
 }
 
-// valueSQL translates a variable bound to a typed literal column, or a literal
-// constant, into an SQL operand and its class.
+// valueSQL translates a variable bound to a typed literal column, a literal
+// constant, or a value SQL computes (compute), into an SQL operand and its
+// class.
 func (q *query) valueSQL(b *branch, e algebra.Expr) (sql.Expr, class) {
 	switch e := e.(type) {
+	case algebra.Call:
+		v, ok := q.compute(b, e)
+		if !ok || v.lang != "" {
+			return nil, classNone // a tagged string compares only with its own kind
+		}
+		return v.expr, kindClass(v.kind)
 	case algebra.Var:
 		bd, ok := b.vars[e]
 		if !ok || len(bd.alts) != 1 {
@@ -220,13 +244,20 @@ func (q *query) valueSQL(b *branch, e algebra.Expr) (sql.Expr, class) {
 		switch lit.Datatype {
 		case rdf.XSDInteger:
 			n, err := strconv.ParseInt(lit.Lexical, 10, 64)
-			if err != nil {
+			if err != nil || !catalog.IntegerLexical(lit.Lexical) {
 				return nil, classNone
 			}
 			return sql.Param{Value: n}, classNumeric
 		case rdf.XSDDecimal, rdf.XSDDouble:
-			f, err := strconv.ParseFloat(lit.Lexical, 64)
-			if err != nil {
+			// An ill-typed literal compares in-process (a type error), and so
+			// do NaN and the infinities, which SQL orders and equates otherwise
+			// (or, in MySQL, cannot hold), and decimals with more digits than a
+			// double keeps.
+			f, ok := catalog.DoubleLexical(lit.Lexical)
+			if lit.Datatype == rdf.XSDDecimal {
+				ok = ok && catalog.DecimalLexical(lit.Lexical) && significantDigits(lit.Lexical) <= 15
+			}
+			if !ok || math.IsNaN(f) || math.IsInf(f, 0) {
 				return nil, classNone
 			}
 			return sql.Param{Value: f}, classNumeric
@@ -239,14 +270,14 @@ func (q *query) valueSQL(b *branch, e algebra.Expr) (sql.Expr, class) {
 			}
 			return sql.Param{Value: v}, classBoolean
 		case rdf.XSDDate:
-			if _, err := time.Parse("2006-01-02", lit.Lexical); err != nil {
+			if t, err := time.Parse("2006-01-02", lit.Lexical); err != nil || !q.pl.holds(source.Column{}, t) {
 				return nil, classNone
 			}
 			return sql.Param{Value: lit.Lexical}, classDate
 		case rdf.XSDDateTime:
 			t, err := time.Parse("2006-01-02T15:04:05.999999999", lit.Lexical)
-			if err != nil {
-				return nil, classNone // ill-formed, or with a time zone
+			if err != nil || !q.pl.holds(source.Column{}, t) {
+				return nil, classNone // ill-formed, with a time zone, or before year 1
 			}
 			// The text form every dialect compares with its timestamps; SQLite,
 			// which keeps them as text, compares it character by character.
@@ -371,6 +402,9 @@ func (q *query) strTestSQL(b *branch, c algebra.Call) (sql.Expr, bool) {
 	if o.m.Datatype != "" && o.m.Datatype != rdf.XSDString {
 		return nil, false
 	}
+	if !q.pl.holds(o.cols[0], lit.Lexical) {
+		return nil, false // NUL in PostgreSQL: tested in-process
+	}
 	if lit.Lexical == "" {
 		if a := o.active(); a != nil {
 			return a, true
@@ -380,4 +414,11 @@ func (q *query) strTestSQL(b *branch, c algebra.Call) (sql.Expr, bool) {
 	op := map[string]string{"CONTAINS": "contains", "STRSTARTS": "starts", "STRENDS": "ends"}[c.Op]
 	n := int64(utf8.RuneCountInString(lit.Lexical))
 	return sql.StrTest{Op: op, X: o.exprs[0], Arg: sql.Param{Value: lit.Lexical}, Len: sql.Param{Value: n}}, true
+}
+
+// significantDigits counts the digits of a decimal lexical form between its
+// first and last non-zero digit.
+func significantDigits(lexical string) int {
+	digits := strings.Trim(strings.NewReplacer("+", "", "-", "", ".", "").Replace(lexical), "0")
+	return len(digits)
 }

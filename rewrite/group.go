@@ -12,9 +12,11 @@ import (
 
 // group expresses GROUP BY with aggregates in SQL when every key is a variable
 // with one shape and every aggregate has an SQL twin with SPARQL's result: COUNT
-// of solutions or of a one-column variable (DISTINCT too), and SUM, MIN, MAX of
-// integer or decimal columns. AVG, SAMPLE, GROUP_CONCAT and the rest stay
-// in-process: their SQL forms round or order differently. nil when SQL cannot.
+// of solutions or of a one-column variable (DISTINCT too); SUM, MIN, MAX of
+// integer or decimal columns; SAMPLE of a one-column variable; GROUP_CONCAT of
+// a string column where the dialect joins strings without a length limit. AVG
+// and the rest stay in-process: their SQL forms round or order differently.
+// nil when SQL cannot.
 func (q *query) group(r *rel, n algebra.Group) *rel {
 	r, ok := q.deduped(r)
 	if !ok || len(r.branches) == 0 {
@@ -76,12 +78,18 @@ func (q *query) group(r *rel, n algebra.Group) *rel {
 		res.addVar(v)
 	}
 	for _, a := range n.Aggs {
-		e, t, ok := q.aggregate(b, a.Agg, len(n.Keys) == 0)
+		m := catalog.TermMap{Kind: catalog.Column, Column: "value", TermType: rdf.KindLiteral}
+		var e sql.Expr
+		var t source.Column
+		if a.Agg.Name == "SAMPLE" {
+			m, e, t, ok = q.sample(b, a.Agg)
+		} else {
+			e, t, ok = q.aggregate(b, a.Agg, len(n.Keys) == 0)
+		}
 		if !ok {
 			return nil
 		}
 		ref := col(e, t)
-		m := catalog.TermMap{Kind: catalog.Column, Column: "value", TermType: rdf.KindLiteral}
 		// MIN and MAX of an empty group are errors, so unbound: NULL in SQL too.
 		out.vars[a.Var] = binding{alts: []occurrence{{m: m, exprs: []sql.Expr{ref}, cols: []source.Column{t}}}, nullable: true}
 		res.addVar(a.Var)
@@ -188,6 +196,9 @@ func (q *query) aggregate(b *branch, a algebra.Aggregate, whole bool) (sql.Expr,
 		}
 		return nil, source.Column{}, false
 	}
+	if a.Name == "GROUP_CONCAT" {
+		return q.groupConcat(b, a, whole)
+	}
 	if a.Name != "SUM" && a.Name != "MIN" && a.Name != "MAX" {
 		return nil, source.Column{}, false
 	}
@@ -204,6 +215,9 @@ func (q *query) aggregate(b *branch, a algebra.Aggregate, whole bool) (sql.Expr,
 	e, cl := q.valueSQL(b, v)
 	o := bd.alts[0]
 	switch k := o.cols[0].Kind; {
+	case cl == classNumeric && k == source.TypeDecimal && a.Name == "SUM" && q.pl.dialect == source.SQLite:
+		// SQLite keeps decimals as binary floats: their sum is not exact.
+		return nil, source.Column{}, false
 	case cl == classNumeric && (k == source.TypeInteger || k == source.TypeDecimal):
 	case (cl == classDate || cl == classDateTime) && a.Name != "SUM":
 		// Dates and timestamps without a zone order the same in SQL.
@@ -222,4 +236,57 @@ func (q *query) aggregate(b *branch, a algebra.Aggregate, whole bool) (sql.Expr,
 		}
 	}
 	return agg, t, true
+}
+
+// sample is SAMPLE (§18.5.1.8: any value of the group) as the least value of a
+// variable built from one column: SQL's MIN skips NULLs as Sample skips
+// errors, yields one of the group's values, and NULL for none. The term map
+// stays the variable's, now reading the aggregate. Kinds without MIN in some
+// dialect (booleans and byte strings in PostgreSQL) stay in-process.
+func (q *query) sample(b *branch, a algebra.Aggregate) (catalog.TermMap, sql.Expr, source.Column, bool) {
+	v, ok := a.Arg.(algebra.Var)
+	bd, bound := b.vars[v]
+	if !ok || !bound || len(bd.alts) != 1 {
+		return catalog.TermMap{}, nil, source.Column{}, false
+	}
+	o := bd.alts[0]
+	if o.m.Kind == catalog.Constant || len(o.exprs) != 1 {
+		return catalog.TermMap{}, nil, source.Column{}, false
+	}
+	switch o.cols[0].Kind {
+	case source.TypeBoolean, source.TypeBinary, source.TypeOther:
+		return catalog.TermMap{}, nil, source.Column{}, false
+	}
+	t := source.Column{DatabaseType: o.cols[0].DatabaseType, Kind: o.cols[0].Kind}
+	return o.m, sql.Agg{Name: "MIN", Arg: o.exprs[0]}, t, true
+}
+
+// groupConcat is GROUP_CONCAT (§18.5.1.7) of an always bound variable built
+// from a string column (with or without a language tag; the result is a simple
+// literal): an unbound or non-string value would make SPARQL's result an
+// error, while SQL skips NULLs. The order of the values is not defined, so any
+// order SQL takes is right. PostgreSQL's string_agg joins them exactly, and
+// SQLite's group_concat too, though only without DISTINCT when the separator
+// is given; MySQL's GROUP_CONCAT cuts its result at group_concat_max_len
+// bytes (1024 by default in MySQL, from memory; 1 MiB in the MariaDB 10.11
+// the tests use), which may cut an answer, and no statement-level setting
+// works in both MySQL and MariaDB, so there it stays in-process. A group of
+// no values is the empty string.
+func (q *query) groupConcat(b *branch, a algebra.Aggregate, whole bool) (sql.Expr, source.Column, bool) {
+	d := q.pl.dialect
+	v, ok := a.Arg.(algebra.Var)
+	bd, bound := b.vars[v]
+	if !ok || !bound || !bd.solid() || d == source.MySQL || d == source.SQLite && a.Distinct {
+		return nil, source.Column{}, false
+	}
+	o := bd.alts[0]
+	if o.m.Kind != catalog.Column || o.m.TermType != rdf.KindLiteral || o.cols[0].Kind != source.TypeString ||
+		o.m.Datatype != "" && o.m.Datatype != rdf.XSDString || d == source.Postgres && padded(o.cols[0].DatabaseType) {
+		return nil, source.Column{}, false
+	}
+	agg := sql.Expr(sql.GroupConcat{X: o.exprs[0], Sep: sql.Param{Value: a.Separator}, Distinct: a.Distinct})
+	if whole {
+		agg = sql.Func{Name: "COALESCE", Args: []sql.Expr{agg, sql.Param{Value: ""}}}
+	}
+	return agg, source.Column{DatabaseType: "TEXT", Kind: source.TypeString}, true
 }

@@ -47,9 +47,14 @@ func (q *query) existsCond(b *branch, r *rel, needShared bool, graphVar algebra.
 	if len(d.branches) == 0 {
 		return sql.Binary{Op: "=", L: sql.Int(0), R: sql.Int(1)}, true // no row of r exists
 	}
-	db := d.branches[0]
+	return q.existsBranch(b, d.branches[0], nil, needShared, graphVar)
+}
+
+// existsBranch is EXISTS (a row of the branch rb, for which the conditions
+// more hold too, compatible with the row of b).
+func (q *query) existsBranch(b, rb *branch, more []sql.Expr, needShared bool, graphVar algebra.Var) (sql.Expr, bool) {
 	var conds, bothBound []sql.Expr
-	for v, rb := range db.vars {
+	for v, vb := range rb.vars {
 		ab, shared := b.vars[v]
 		if !shared {
 			continue
@@ -59,7 +64,7 @@ func (q *query) existsCond(b *branch, r *rel, needShared bool, graphVar algebra.
 		}
 		a := ab.alts[0]
 		var rActive, matches []sql.Expr
-		for _, alt := range rb.alts {
+		for _, alt := range vb.alts {
 			rActive = append(rActive, alt.active())
 			c, exact, ok := q.unify(a, alt)
 			if !ok {
@@ -97,7 +102,8 @@ func (q *query) existsCond(b *branch, r *rel, needShared bool, graphVar algebra.
 			conds = append(conds, bb)
 		}
 	}
-	sub := &sql.Select{Columns: []sql.Column{{Expr: sql.Int(1)}}, From: db.from, Where: sql.And(conds...)}
+	where := append(append(append([]sql.Expr(nil), rb.where...), more...), conds...)
+	sub := &sql.Select{Columns: []sql.Column{{Expr: sql.Int(1)}}, From: rb.from, Where: sql.And(uniqueConds(where)...)}
 	return sql.Exists{Stmt: sub}, true
 }
 
@@ -106,17 +112,20 @@ func (q *query) existsCond(b *branch, r *rel, needShared bool, graphVar algebra.
 // current solution when the pattern's own expressions only read variables the
 // pattern binds; otherwise the test stays in-process.
 func (q *query) existsSQL(b *branch, e algebra.Exists) (sql.Expr, bool) {
-	if !selfContained(e.Pattern) {
-		return nil, false
+	var cond sql.Expr
+	ok := false
+	if selfContained(e.Pattern) {
+		r, mod, err := q.relation(e.Pattern, q.graph)
+		if r == nil || err != nil {
+			return nil, false
+		}
+		if r, err = q.nest(r, mod); r == nil || err != nil {
+			return nil, false
+		}
+		cond, ok = q.existsCond(b, r, false, "")
+	} else if f, isFilter := e.Pattern.(algebra.Filter); isFilter {
+		cond, ok = q.correlatedExists(b, f)
 	}
-	r, mod, err := q.relation(e.Pattern, q.graph)
-	if r == nil || err != nil {
-		return nil, false
-	}
-	if r, err = q.nest(r, mod); r == nil || err != nil {
-		return nil, false
-	}
-	cond, ok := q.existsCond(b, r, false, "")
 	if !ok {
 		return nil, false
 	}
@@ -124,6 +133,78 @@ func (q *query) existsSQL(b *branch, e algebra.Exists) (sql.Expr, bool) {
 		return sql.Not{X: cond}, true
 	}
 	return cond, true
+}
+
+// correlatedExists is EXISTS { P FILTER(...) } whose filter reads variables
+// that P does not bind, a self-contained P: §18.6 substitutes the outer
+// solution's terms for them, so the filter reads the outer row's columns (or
+// finds them unbound, as SQL's NULL is). The filter runs inside the
+// sub-query of each of P's branches, which reads P's tables directly: a
+// derived table could not see the outer row in every dialect. EXISTS over the
+// branches is the disjunction of their EXISTS.
+func (q *query) correlatedExists(b *branch, f algebra.Filter) (sql.Expr, bool) {
+	if !selfContained(f.Input) {
+		return nil, false
+	}
+	scope := scopeSet(f.Input)
+	outer := map[algebra.Var]bool{}
+	for _, e := range f.Exprs {
+		if !freeVars(e, scope, outer) {
+			return nil, false
+		}
+	}
+	r, mod, err := q.relation(f.Input, q.graph)
+	if r == nil || err != nil || !plain(mod) || r.hasChecks() {
+		return nil, false
+	}
+	var opts []sql.Expr
+	for _, rb := range r.branches {
+		view := rb.clone()
+		for v := range outer {
+			if ob, bound := b.vars[v]; bound {
+				view.vars[v] = ob
+			}
+		}
+		var conds []sql.Expr
+		for _, e := range f.Exprs {
+			for _, c := range conjuncts(e) {
+				cond, ok := q.exprSQL(view, c)
+				if !ok {
+					return nil, false
+				}
+				conds = append(conds, cond)
+			}
+		}
+		ex, ok := q.existsBranch(b, rb, conds, false, "")
+		if !ok {
+			return nil, false
+		}
+		opts = append(opts, ex)
+	}
+	if len(opts) == 0 {
+		return sql.Binary{Op: "=", L: sql.Int(0), R: sql.Int(1)}, true // P has no rows
+	}
+	return or(opts...), true
+}
+
+// freeVars adds to free the variables e reads outside scope; false when e
+// holds an EXISTS, whose own scopes this does not follow.
+func freeVars(e algebra.Expr, scope, free map[algebra.Var]bool) bool {
+	switch e := e.(type) {
+	case algebra.Var:
+		if !scope[e] {
+			free[e] = true
+		}
+	case algebra.Call:
+		for _, a := range e.Args {
+			if !freeVars(a, scope, free) {
+				return false
+			}
+		}
+	case algebra.Exists:
+		return false
+	}
+	return true
 }
 
 // selfContained reports whether every expression inside the pattern reads only

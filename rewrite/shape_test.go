@@ -5,8 +5,6 @@ import (
 	"path/filepath"
 	"testing"
 
-	"veneer/catalog"
-	"veneer/catalog/r2rml"
 	"veneer/catalog/source"
 	"veneer/cmd/veneer/demo"
 	"veneer/rewrite"
@@ -17,25 +15,12 @@ import (
 // planner's SQL reads exactly as many tables as the SQL a database engineer would
 // write for the same question (the hand-written SQL is given beside each case).
 func TestSQLShapes(t *testing.T) {
-	ctx := context.Background()
-	path := filepath.Join(t.TempDir(), "demo.db")
-	if err := demo.BuildSQLite(ctx, path); err != nil {
-		t.Fatal(err)
-	}
-	src, err := source.Open(ctx, "sqlite:"+path)
+	d, err := demo.OpenSQLite(context.Background(), filepath.Join(t.TempDir(), "demo.db"))
 	if err != nil {
 		t.Fatal(err)
 	}
-	defer src.Close()
-	cat, err := r2rml.Load("mapping.ttl", []byte(demo.Mapping()))
-	if err != nil {
-		t.Fatal(err)
-	}
-	cols, err := catalog.ProbeColumns(ctx, src, cat)
-	if err != nil {
-		t.Fatal(err)
-	}
-	pl := rewrite.NewPlanner(cat, cols, source.SQLite)
+	defer d.Source.Close()
+	pl := rewrite.NewPlanner(d.Catalog, d.Columns, source.SQLite)
 	const p = `PREFIX wf: <https://vocab.veneer.example/windfarm#>
 PREFIX rdfs: <http://www.w3.org/2000/01/rdf-schema#>
 `

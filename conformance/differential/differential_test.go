@@ -5,9 +5,7 @@ import (
 	"errors"
 	"fmt"
 	"io"
-	"log/slog"
 	"net/http"
-	"net/http/httptest"
 	"net/url"
 	"os"
 	"path/filepath"
@@ -18,15 +16,10 @@ import (
 	"testing"
 	"time"
 
-	"github.com/prometheus/client_golang/prometheus"
-
 	"veneer/catalog"
 	"veneer/catalog/r2rml"
 	"veneer/catalog/source/sourcetest"
 	"veneer/cmd/veneer/demo"
-	"veneer/rewrite"
-	"veneer/rewrite/exec"
-	"veneer/server"
 )
 
 // The differential test: on the demo database, generated queries answered by
@@ -123,7 +116,7 @@ func differential(t *testing.T, db *sourcetest.DB, refDir string, seed uint64, c
 	}
 
 	// The side under test: veneer's endpoint over the same database.
-	endpoint := startVeneer(t, db)
+	endpoint := Serve(t, demoCatalog(t), db.Open(t)) + "/sparql"
 
 	qs := Generate(g, seed, count)
 	passed, empty := 0, 0
@@ -228,27 +221,6 @@ func askVeneer(endpoint string, q Query) ([]byte, error) {
 		return nil, &QueryError{Msg: fmt.Sprintf("HTTP %d: %s", resp.StatusCode, clip(strings.TrimSpace(string(body)), 1500))}
 	}
 	return body, nil
-}
-
-// startVeneer serves the demo mapping over db as serve does: R2RML catalog,
-// source, probed columns, planner, engine, server.
-func startVeneer(t *testing.T, db *sourcetest.DB) string {
-	ctx := context.Background()
-	cat := demoCatalog(t)
-	src := db.Open(t)
-	cols, err := catalog.ProbeColumns(ctx, src, cat)
-	if err != nil {
-		t.Fatal(err)
-	}
-	e := &exec.Engine{Planner: rewrite.NewPlanner(cat, cols, src.Dialect()), Source: src}
-	reg := prometheus.NewRegistry()
-	srv, err := server.New(server.DefaultConfig(), server.FromExec(e), slog.New(slog.NewTextHandler(io.Discard, nil)), reg, reg)
-	if err != nil {
-		t.Fatal(err)
-	}
-	ts := httptest.NewServer(srv.Handler())
-	t.Cleanup(ts.Close)
-	return ts.URL + "/sparql"
 }
 
 func demoCatalog(t *testing.T) *catalog.Catalog {

@@ -7,9 +7,7 @@ import (
 	"errors"
 	"fmt"
 	"io"
-	"log/slog"
 	"net/http"
-	"net/http/httptest"
 	"net/url"
 	"os"
 	"path/filepath"
@@ -22,8 +20,6 @@ import (
 	"time"
 	"unicode/utf8"
 
-	"github.com/prometheus/client_golang/prometheus"
-
 	"veneer/catalog"
 	"veneer/catalog/r2rml"
 	"veneer/catalog/rdf"
@@ -31,8 +27,6 @@ import (
 	"veneer/catalog/source/sourcetest"
 	"veneer/cmd/veneer/demo"
 	"veneer/conformance/differential"
-	"veneer/rewrite"
-	"veneer/rewrite/exec"
 	"veneer/server"
 )
 
@@ -110,7 +104,7 @@ func hostile(t *testing.T, db *sourcetest.DB, values []Value, known map[knownKey
 	templates := Templates(description)
 
 	src := openSource(t, db, sent.appName)
-	v := startVeneer(t, cat, src)
+	v := &veneer{url: differential.Serve(t, cat, src)}
 
 	base := map[*Template]string{}
 	for _, b := range baselines {
@@ -236,9 +230,7 @@ func (v *veneer) try(t *testing.T, ref *reference, g *differential.Graph, src *r
 		if refErr != nil && !errors.As(refErr, &qe) {
 			t.Fatalf("the reference engine: %v", refErr)
 		}
-		if q.Template.Lookup != nil {
-			want, refErr = deviations(q, val.Text, g, want, refErr, st)
-		}
+		want, refErr = deviations(q, val.Text, g, want, refErr, st)
 	} else {
 		refErr = errors.New("the query text is not UTF-8")
 	}
@@ -291,7 +283,18 @@ var (
 //     IRI with characters that RFC 3987 leaves out but IRIREF (§19.8) admits
 //     ("[", U+007F, U+FFFF). veneer may answer such a query: no term of the
 //     graph has such a tag or IRI, so Lookup gives no solutions.
+//   - It reads spellings of infinity that the xsd:double lexical space (XSD
+//     1.1 Part 2 §3.3.5: INF, +INF, -INF) does not hold, such as "-Infinity",
+//     as numbers. Such a literal is ill-typed, a comparison with it is a type
+//     error (SPARQL 1.1 Query §17.3), and the FILTER keeps no solution.
 func deviations(q Query, v string, g *differential.Graph, want *differential.Answer, refErr error, st *stats) (*differential.Answer, error) {
+	if refErr == nil && q.Template.Name == "double-greater" && !doubleLexical(v) && len(want.Solutions) > 0 {
+		st.deviations["the reference reads a double the xsd:double lexical space does not hold"]++
+		return &differential.Answer{Vars: want.Vars}, nil
+	}
+	if q.Template.Lookup == nil {
+		return want, refErr
+	}
 	alt := q.Template.Lookup(g, v)
 	switch {
 	case refErr != nil && q.Template.Name == "language-tag" && langTag.MatchString(v):
@@ -306,6 +309,10 @@ func deviations(q Query, v string, g *differential.Graph, want *differential.Ans
 	}
 	return want, refErr
 }
+
+// doubleLexical is the xsd:double lexical space, as the regular expression
+// of XSD 1.1 Part 2 §3.3.5.2 gives it.
+var doubleLexical = regexp.MustCompile(`^((\+|-)?([0-9]+(\.[0-9]*)?|\.[0-9]+)([Ee](\+|-)?[0-9]+)?|(\+|-)?INF|NaN)$`).MatchString
 
 func refOutcome(err error) string {
 	if err != nil {
@@ -406,23 +413,6 @@ func (v *veneer) ask(t *testing.T, path, query string, header ...string) respons
 		t.Fatalf("POST %s: reading the answer: %v", path, err)
 	}
 	return response{resp.StatusCode, resp.Header, string(body)}
-}
-
-// startVeneer serves the demo mapping over src as serve does.
-func startVeneer(t *testing.T, cat *catalog.Catalog, src source.Source) *veneer {
-	cols, err := catalog.ProbeColumns(context.Background(), src, cat)
-	if err != nil {
-		t.Fatal(err)
-	}
-	e := &exec.Engine{Planner: rewrite.NewPlanner(cat, cols, src.Dialect()), Source: src}
-	reg := prometheus.NewRegistry()
-	srv, err := server.New(server.DefaultConfig(), server.FromExec(e), slog.New(slog.NewTextHandler(io.Discard, nil)), reg, reg)
-	if err != nil {
-		t.Fatal(err)
-	}
-	ts := httptest.NewServer(srv.Handler())
-	t.Cleanup(ts.Close)
-	return &veneer{url: ts.URL}
 }
 
 func demoCatalog(t *testing.T) *catalog.Catalog {

@@ -25,7 +25,7 @@ type temporal struct {
 // parseTemporal reads a literal of one of the three date-time types; false for
 // other datatypes and invalid lexical forms.
 func parseTemporal(l rdf.Literal) (temporal, bool) {
-	s := strings.TrimSpace(l.Lexical)
+	s := l.Lexical // no white space, as numberOf says
 	var t temporal
 	var ok bool
 	switch l.Datatype {

@@ -248,7 +248,7 @@ func ebvOf(t rdf.Term, err error) (bool, error) {
 
 // booleanValue reads the xsd:boolean lexical space.
 func booleanValue(s string) (value, ok bool) {
-	switch strings.TrimSpace(s) {
+	switch s { // no white space, as numberOf says
 	case "true", "1":
 		return true, true
 	case "false", "0":

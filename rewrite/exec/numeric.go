@@ -78,10 +78,14 @@ func numberOf(t rdf.Term) (number, bool) {
 	if !ok {
 		return number{}, false
 	}
-	s := strings.TrimSpace(lit.Lexical) // XSD numeric types collapse whitespace
+	// No white space: an RDF literal's lexical form must be in the datatype's
+	// lexical space as it is (RDF 1.1 Concepts §3.3), and XSD's lexical spaces
+	// of numbers hold none (XSD 1.1 Part 2 §3.3.3, §3.3.5, §3.3.13). Casts from
+	// strings, which do collapse white space, trim before they get here.
+	s := lit.Lexical
 	switch lit.Datatype {
 	case rdf.XSDDecimal:
-		if !decimalLexical(s) {
+		if !catalog.DecimalLexical(s) {
 			return number{}, false
 		}
 		if n, ok := smallDecimal(s); ok {
@@ -90,7 +94,7 @@ func numberOf(t rdf.Term) (number, bool) {
 		r, ok := new(big.Rat).SetString(s)
 		return number{kind: kindDecimal, exact: r}, ok
 	case rdf.XSDDouble, rdf.XSDFloat:
-		f, ok := parseFloatLexical(s)
+		f, ok := catalog.DoubleLexical(s)
 		if !ok {
 			return number{}, false
 		}
@@ -108,7 +112,7 @@ func numberOf(t rdf.Term) (number, bool) {
 
 // parseInteger reads an xsd:integer lexical form within the bounds of a derived type.
 func parseInteger(s string, bounds [2]*big.Int) (number, bool) {
-	if !integerLexical(s) {
+	if !catalog.IntegerLexical(s) {
 		return number{}, false
 	}
 	if n, err := strconv.ParseInt(s, 10, 64); err == nil {
@@ -124,24 +128,6 @@ func parseInteger(s string, bounds [2]*big.Int) (number, bool) {
 		return number{}, false
 	}
 	return number{kind: kindInteger, exact: new(big.Rat).SetInt(i)}, true
-}
-
-// integerLexical checks the xsd:integer lexical space: an optional sign and digits.
-func integerLexical(s string) bool {
-	if len(s) > 0 && (s[0] == '+' || s[0] == '-') {
-		s = s[1:]
-	}
-	return len(s) > 0 && allDigits(s)
-}
-
-// decimalLexical checks the xsd:decimal lexical space: an optional sign, digits
-// with at most one '.', and at least one digit.
-func decimalLexical(s string) bool {
-	if len(s) > 0 && (s[0] == '+' || s[0] == '-') {
-		s = s[1:]
-	}
-	whole, frac, _ := strings.Cut(s, ".")
-	return len(whole)+len(frac) > 0 && allDigits(whole) && allDigits(frac)
 }
 
 // smallDecimal reads a valid decimal lexical form with at most 18 digits.
@@ -169,37 +155,6 @@ func smallDecimal(s string) (number, bool) {
 		m = -m
 	}
 	return number{kind: kindDecimal, small: m, scale: int8(len(frac))}, true
-}
-
-// parseFloatLexical reads the xsd:double / xsd:float lexical space: a decimal
-// mantissa with an optional exponent, or INF, +INF, -INF, NaN. Go's ParseFloat
-// alone would also take hex, underscores and "Infinity".
-func parseFloatLexical(s string) (float64, bool) {
-	switch s {
-	case "INF", "+INF":
-		return math.Inf(1), true
-	case "-INF":
-		return math.Inf(-1), true
-	case "NaN":
-		return math.NaN(), true
-	}
-	mant, exp, hasExp := s, "", false
-	if i := strings.IndexAny(s, "eE"); i >= 0 {
-		mant, exp, hasExp = s[:i], s[i+1:], true
-	}
-	if !decimalLexical(mant) || hasExp && !integerLexical(exp) {
-		return 0, false
-	}
-	f, err := strconv.ParseFloat(s, 64)
-	if err != nil && !isRangeError(err) {
-		return 0, false
-	}
-	return f, true
-}
-
-func isRangeError(err error) bool {
-	ne, ok := err.(*strconv.NumError)
-	return ok && ne.Err == strconv.ErrRange
 }
 
 func allDigits(s string) bool {

@@ -8,9 +8,6 @@ import (
 	"strings"
 	"testing"
 
-	"veneer/catalog"
-	"veneer/catalog/r2rml"
-	"veneer/catalog/source"
 	"veneer/cmd/veneer/demo"
 	"veneer/rewrite"
 	"veneer/rewrite/exec"
@@ -28,26 +25,12 @@ PREFIX xsd: <http://www.w3.org/2001/XMLSchema#>
 // treats differently: IRIs of two triples maps, IRIs no template produces,
 // literals, UNDEF, repeated rows and no rows at all.
 func TestShapeCacheAnswers(t *testing.T) {
-	ctx := context.Background()
-	path := filepath.Join(t.TempDir(), "demo.db")
-	if err := demo.BuildSQLite(ctx, path); err != nil {
-		t.Fatal(err)
-	}
-	src, err := source.Open(ctx, "sqlite:"+path)
+	d, err := demo.OpenSQLite(context.Background(), filepath.Join(t.TempDir(), "demo.db"))
 	if err != nil {
 		t.Fatal(err)
 	}
-	defer src.Close()
-	cat, err := r2rml.Load("mapping.ttl", []byte(demo.Mapping()))
-	if err != nil {
-		t.Fatal(err)
-	}
-	cols, err := catalog.ProbeColumns(ctx, src, cat)
-	if err != nil {
-		t.Fatal(err)
-	}
-	pl := rewrite.NewPlanner(cat, cols, src.Dialect())
-	engine := &exec.Engine{Planner: pl, Source: src}
+	defer d.Source.Close()
+	engine := &exec.Engine{Planner: rewrite.NewPlanner(d.Catalog, d.Columns, d.Source.Dialect()), Source: d.Source}
 
 	iris := func(class string) []string {
 		rows := answer(t, engine, shapePrefixes+`SELECT ?x WHERE { ?x a wf:`+class+` } ORDER BY ?x LIMIT 4`, false)

@@ -208,8 +208,22 @@ func MapColumns(e Expr, f func(ColumnRef) ColumnRef) Expr {
 	case Late:
 		x.renames = append(x.renames[:len(x.renames):len(x.renames)], f)
 		return x
+	case Agg:
+		if x.Arg != nil {
+			x.Arg = MapColumns(x.Arg, f)
+		}
+		return x
+	case DatePart:
+		x.X = MapColumns(x.X, f)
+		return x
+	case GroupConcat:
+		x.X, x.Sep = MapColumns(x.X, f), MapColumns(x.Sep, f)
+		return x
+	case Exists:
+		// A correlated sub-query reads columns of the outer query.
+		return Exists{Stmt: mapStmt(x.Stmt, f), Not: x.Not}
 	}
-	// Param, Int, Null, and Exists (whose sub-query is closed over its own FROM).
+	// Param, Int and Null.
 	return e
 }
 

@@ -314,6 +314,10 @@ func (p *printer) expr(e Expr) {
 		p.w(e.Name, "(")
 		p.list(e.Args)
 		p.w(")")
+	case DatePart:
+		p.datePart(e)
+	case GroupConcat:
+		p.groupConcat(e)
 	case Exists:
 		if e.Not {
 			p.w("NOT ")

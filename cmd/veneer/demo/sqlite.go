@@ -8,6 +8,10 @@ import (
 	"os"
 
 	_ "modernc.org/sqlite" // registers the pure-Go "sqlite" driver
+
+	"veneer/catalog"
+	"veneer/catalog/r2rml"
+	"veneer/catalog/source"
 )
 
 // BuildSQLite creates a new SQLite database file at path and builds the demo database
@@ -56,4 +60,32 @@ func BuildSQLite(ctx context.Context, path string) (err error) {
 		return fmt.Errorf("demo: committing the build of %s: %w", path, err)
 	}
 	return nil
+}
+
+// Served is the demo as veneer serves it: the source, the mapping's catalog
+// and the catalog's columns as probed on the source.
+type Served struct {
+	Source  source.Source
+	Catalog *catalog.Catalog
+	Columns *catalog.Columns
+}
+
+// OpenSQLite builds the demo database in a new SQLite file at path and opens
+// it read-only with the demo mapping. The caller closes Source.
+func OpenSQLite(ctx context.Context, path string) (*Served, error) {
+	if err := BuildSQLite(ctx, path); err != nil {
+		return nil, err
+	}
+	src, err := source.Open(ctx, "sqlite:"+path)
+	if err != nil {
+		return nil, err
+	}
+	cat, err := r2rml.Load("mapping.ttl", []byte(Mapping()))
+	if err == nil {
+		var cols *catalog.Columns
+		if cols, err = catalog.ProbeColumns(ctx, src, cat); err == nil {
+			return &Served{Source: src, Catalog: cat, Columns: cols}, nil
+		}
+	}
+	return nil, errors.Join(err, src.Close())
 }
