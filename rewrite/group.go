@@ -114,25 +114,29 @@ func (q *query) countsSummed(r *rel, n algebra.Group) *rel {
 			return nil
 		}
 	}
-	inner := q.alias("n")
-	count := sql.Column{Expr: sql.Agg{Name: "COUNT"}, Alias: "c0"}
-	union := &sql.Union{All: true}
+	// The counts are scalar sub-queries added up, which a database runs one
+	// after the other, as it would the hand-written sum; a union under SUM
+	// may start parallel workers for a one-row answer.
+	var total sql.Expr
 	for _, b := range r.branches {
 		b = q.pruneTables(b, []algebra.Var{})
-		union.Selects = append(union.Selects, &sql.Select{Columns: []sql.Column{count},
-			From: b.from, Where: sql.And(uniqueConds(b.where)...)})
+		count := sql.Subquery{Stmt: &sql.Select{Columns: []sql.Column{{Expr: sql.Agg{Name: "COUNT"}, Alias: "c0"}},
+			From: b.from, Where: sql.And(uniqueConds(b.where)...)}}
+		if total == nil {
+			total = count
+		} else {
+			total = sql.Binary{Op: "+", L: total, R: count}
+		}
 	}
-	ref := sql.ColumnRef{Table: inner, Column: catalog.Ident{Name: "c0", Quoted: true}}
-	sum := &sql.Select{Columns: []sql.Column{{Expr: sql.Agg{Name: "SUM", Arg: ref}, Alias: "c0"}},
-		From: []sql.From{&sql.Derived{Stmt: union, Alias: inner}}}
+	sum := &sql.Select{Columns: []sql.Column{{Expr: total, Alias: "c0"}}}
 	alias := q.alias("g")
 	out := &branch{from: []sql.From{&sql.Derived{Stmt: sum, Alias: alias}}, vars: map[algebra.Var]binding{}}
 	res := &rel{branches: []*branch{out}}
 	m := catalog.TermMap{Kind: catalog.Column, Column: "value", TermType: rdf.KindLiteral}
 	t := source.Column{DatabaseType: "BIGINT", Kind: source.TypeInteger}
-	total := sql.ColumnRef{Table: alias, Column: catalog.Ident{Name: "c0", Quoted: true}}
+	ref := sql.ColumnRef{Table: alias, Column: catalog.Ident{Name: "c0", Quoted: true}}
 	for _, a := range n.Aggs {
-		out.vars[a.Var] = binding{alts: []occurrence{{m: m, exprs: []sql.Expr{total}, cols: []source.Column{t}}}}
+		out.vars[a.Var] = binding{alts: []occurrence{{m: m, exprs: []sql.Expr{ref}, cols: []source.Column{t}}}}
 		res.addVar(a.Var)
 	}
 	return res

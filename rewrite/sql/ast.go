@@ -132,6 +132,10 @@ type Exists struct {
 	Not  bool
 }
 
+// Subquery is a scalar sub-query: a statement of one column and at most one
+// row, used as a value. It reads no column of the statement around it.
+type Subquery struct{ Stmt Stmt }
+
 func (ColumnRef) expr() {}
 func (Param) expr()     {}
 func (Int) expr()       {}
@@ -141,6 +145,7 @@ func (Not) expr()       {}
 func (IsNull) expr()    {}
 func (Func) expr()      {}
 func (Exists) expr()    {}
+func (Subquery) expr()  {}
 
 // And joins conditions with AND, skipping nil ones; nil when there are none.
 func And(conds ...Expr) Expr {

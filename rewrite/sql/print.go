@@ -325,6 +325,10 @@ func (p *printer) expr(e Expr) {
 		p.w("EXISTS (")
 		p.stmt(e.Stmt)
 		p.w(")")
+	case Subquery:
+		p.w("(")
+		p.stmt(e.Stmt)
+		p.w(")")
 	default:
 		panic(fmt.Sprintf("sql: unknown expression %T", e))
 	}
