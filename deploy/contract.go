@@ -141,11 +141,12 @@ var Metrics = []Metric{
 	{"veneer_db_connections_max", Gauge, []string{"source"}},
 	{"veneer_db_connection_waits_total", Counter, []string{"source"}},
 	{"veneer_db_connection_wait_seconds_total", Counter, []string{"source"}},
-	{"veneer_db_member_up", Gauge, []string{"source", "member"}},
-	{"veneer_db_member_connections_open", Gauge, []string{"source", "member"}},
-	{"veneer_db_member_connections_in_use", Gauge, []string{"source", "member"}},
-	{"veneer_db_member_statements_total", Counter, []string{"source", "member"}},
-	{"veneer_db_member_removals_total", Counter, []string{"source", "member"}},
+	// A source with replicas: source is a constant label of these.
+	{"veneer_db_member_up", Gauge, []string{"member"}},
+	{"veneer_db_member_connections_open", Gauge, []string{"member"}},
+	{"veneer_db_member_connections_in_use", Gauge, []string{"member"}},
+	{"veneer_db_member_statements_total", Counter, []string{"member"}},
+	{"veneer_db_member_removals_total", Counter, []string{"member"}},
 }
 
 // MetricByName returns the listed metric family of that name.

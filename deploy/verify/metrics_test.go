@@ -8,6 +8,8 @@ import (
 	"log/slog"
 	"net/http"
 	"net/http/httptest"
+	"os"
+	"path/filepath"
 	"regexp"
 	"slices"
 	"strings"
@@ -17,6 +19,7 @@ import (
 	dto "github.com/prometheus/client_model/go"
 
 	"veneer/catalog/rdf"
+	"veneer/catalog/source"
 	"veneer/deploy"
 	"veneer/server"
 	"veneer/server/results"
@@ -84,6 +87,22 @@ func serverMetrics(t *testing.T, engine *stubEngine) (map[string]*family, http.H
 	if err != nil {
 		t.Fatal(err)
 	}
+	// A source with a replica, as veneer serve registers its members.
+	dir := t.TempDir()
+	var members []source.Member
+	for _, name := range []string{"primary", "replica-1"} {
+		path := filepath.Join(dir, name+".db")
+		if err := os.WriteFile(path, nil, 0o600); err != nil {
+			t.Fatal(err)
+		}
+		members = append(members, source.Member{Name: name, DSN: "sqlite:" + path})
+	}
+	g, err := source.OpenGroup(context.Background(), members)
+	if err != nil {
+		t.Fatal(err)
+	}
+	t.Cleanup(func() { g.Close() })
+	rec.MustRegister(g.Collector("default"))
 	fams := map[string]*family{}
 	for _, c := range rec.collectors {
 		var typ deploy.MetricType
