@@ -96,6 +96,9 @@ func (q *query) bgp(patterns []algebra.Triple, graph algebra.Item) (*rel, error)
 			return nil
 		}
 		for _, c := range cands[i] {
+			if !mayJoin(b, patterns[i], c) {
+				continue // addPattern would fail: spare the copy of the branch
+			}
 			nb := b.clone()
 			if q.addPattern(nb, patterns[i], c, graph) {
 				if err := walk(i+1, nb); err != nil {
@@ -113,6 +116,33 @@ func (q *query) bgp(patterns []algebra.Triple, graph algebra.Item) (*rel, error)
 		q.eliminateSelfJoins(b)
 	}
 	return r, nil
+}
+
+// mayJoin reports whether candidate c can produce pattern t in branch b as
+// far as the cheap tests of unify tell: a subject or object variable that b
+// binds with one term map must meet a term map of the same term type, and two
+// templates must share their shape or a leading text. false means addPattern
+// would fail; true that it may succeed.
+func mayJoin(b *branch, t algebra.Triple, c candidate) bool {
+	for _, pos := range []struct {
+		it algebra.Item
+		m  catalog.TermMap
+	}{{t.S, c.p.tm.Subject}, {t.O, c.p.object}} {
+		v, ok := pos.it.(algebra.Var)
+		bd, bound := b.vars[v]
+		if !ok || !bound || len(bd.alts) != 1 {
+			continue
+		}
+		m := bd.alts[0].m
+		if m.TermType != pos.m.TermType {
+			return false
+		}
+		if m.Kind == catalog.TemplateMap && pos.m.Kind == catalog.TemplateMap &&
+			!catalog.SameShape(m.Template, pos.m.Template) && !prefixCompatible(m.Template, pos.m.Template) {
+			return false
+		}
+	}
+	return true
 }
 
 // base returns the occurrence of term map m over the rows of FROM alias.
