@@ -13,7 +13,9 @@ import (
 // FuzzPlan feeds query texts through parse → translate → plan for the three
 // dialects: whatever the text, the planner answers with a plan or an error,
 // never a panic, and every SQL statement of a plan prints with exactly one bind
-// argument per placeholder of its dialect.
+// argument per placeholder of its dialect. Each text also goes three times
+// through the plan cache, so that a text with VALUES data is planned alone,
+// then with its data lifted out, then bound into its shape's plan.
 func FuzzPlan(f *testing.F) {
 	seeds, _ := filepath.Glob("testdata/plans/*.rq")
 	for _, s := range seeds {
@@ -38,6 +40,17 @@ func FuzzPlan(f *testing.F) {
 				text, args := sql.Print(s.Stmt, d)
 				if got := placeholders(text, d); got != len(args) {
 					t.Fatalf("%s: %d placeholders, %d arguments in %s", d, got, len(args), text)
+				}
+			}
+			for range 3 {
+				p, _, err := pl.CompileRequest(rewrite.Request{Text: text})
+				if err != nil {
+					t.Fatalf("%s: planned alone, but through the cache: %v", d, err)
+				}
+				for _, s := range scans(p.Root) {
+					if got := placeholders(s.SQL, d); s.Stmt != nil && got != len(s.Args) {
+						t.Fatalf("%s, through the cache: %d placeholders, %d arguments in %s", d, got, len(s.Args), s.SQL)
+					}
 				}
 			}
 		}
