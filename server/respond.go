@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"net/http"
 	"slices"
+	"strconv"
 	"strings"
 
 	"veneer/catalog/rdf"
@@ -45,17 +46,23 @@ func formatNames(k results.Kind) string {
 }
 
 // writeAnswer streams an answer in format f and returns the number of
-// solutions or triples sent.
+// solutions or triples sent. An answer that is whole within the rows held
+// back (see holdRows) goes out in one write with its Content-Length, so that
+// the client has all of it at once; a longer one streams.
 func (s *Server) writeAnswer(w http.ResponseWriter, a *Answer, f results.Format) (int64, error) {
 	h := w.Header()
 	h.Set("Content-Type", f.ContentType())
 	h.Add("Vary", "Accept")
+	out := &wholeOrStream{w: w}
 	max := s.cfg.Limits.MaxRows
 	switch a.Kind {
 	case results.Boolean:
-		return 0, results.WriteBoolean(f, w, a.Boolean)
+		if err := results.WriteBoolean(f, out, a.Boolean); err != nil {
+			return 0, err
+		}
+		return 0, out.whole()
 	case results.Solutions:
-		out, err := results.NewSelectWriter(f, w)
+		sw, err := results.NewSelectWriter(f, out)
 		if err != nil {
 			return 0, err
 		}
@@ -66,20 +73,68 @@ func (s *Server) writeAnswer(w http.ResponseWriter, a *Answer, f results.Format)
 			}
 			return cur.Solution()
 		}
-		begin := func() error { return out.Begin(cur.Vars()) }
-		n, err := stream(cur, row, begin, out.Row, out.End, max)
+		begin := func() error { return sw.Begin(cur.Vars()) }
+		n, err := stream(cur, row, begin, sw.Row, sw.End, max, out)
 		return n, s.rowLimit(err, max, "solutions")
 	case results.Graph:
-		out, err := results.NewGraphWriter(f, w, a.Prefixes)
+		gw, err := results.NewGraphWriter(f, out, a.Prefixes)
 		if err != nil {
 			return 0, err
 		}
 		cur := a.Graph
 		row := func(bool) rdf.Triple { return cur.Triple() }
-		n, err := stream(cur, row, out.Begin, out.Triple, out.End, max)
+		n, err := stream(cur, row, gw.Begin, gw.Triple, gw.End, max, out)
 		return n, s.rowLimit(err, max, "triples")
 	}
 	return 0, fmt.Errorf("server: answer of unknown kind %v", a.Kind)
+}
+
+// wholeOrStream is the body of an answer: it keeps what the result writer
+// writes (and its flushes) until the answer proves whole, which then goes
+// out in one write with its length, or long, which then streams.
+type wholeOrStream struct {
+	w         http.ResponseWriter
+	buf       []byte
+	streaming bool
+}
+
+func (b *wholeOrStream) Write(p []byte) (int, error) {
+	if b.streaming {
+		return b.w.Write(p)
+	}
+	b.buf = append(b.buf, p...)
+	return len(p), nil
+}
+
+// Flush implements http.Flusher: once the answer streams.
+func (b *wholeOrStream) Flush() {
+	if f, ok := b.w.(http.Flusher); ok && b.streaming {
+		f.Flush()
+	}
+}
+
+// stream sends what is kept and passes the rest through.
+func (b *wholeOrStream) stream() error {
+	b.streaming = true
+	if len(b.buf) == 0 {
+		return nil
+	}
+	_, err := b.w.Write(b.buf)
+	b.buf = nil
+	return err
+}
+
+// whole sends the whole answer with its length.
+func (b *wholeOrStream) whole() error {
+	if b.streaming {
+		return nil
+	}
+	b.w.Header().Set("Content-Length", strconv.Itoa(len(b.buf)))
+	if err := b.stream(); err != nil {
+		return err
+	}
+	b.Flush()
+	return nil
 }
 
 // errRowLimit is what stream returns for an answer over the row limit.
@@ -98,11 +153,12 @@ func (s *Server) rowLimit(err error, max int64, what string) error {
 // holding the first holdRows rows back before it begins (see holdRows); row
 // returns the current row, a copy that outlives the cursor's next step when
 // keep is set. More than max rows (when max > 0) is errRowLimit, and any
-// failure leaves the document unfinished.
+// failure leaves the document unfinished. An answer whole within the held
+// rows leaves body as one write; a longer one makes body stream.
 func stream[T any](cur interface {
 	Next() bool
 	Err() error
-}, row func(keep bool) T, begin func() error, put func(T) error, end func() error, max int64) (int64, error) {
+}, row func(keep bool) T, begin func() error, put func(T) error, end func() error, max int64, body *wholeOrStream) (int64, error) {
 	var held []T
 	for len(held) < holdRows && cur.Next() {
 		if max > 0 && int64(len(held)) >= max {
@@ -124,7 +180,13 @@ func stream[T any](cur interface {
 		n++
 	}
 	if len(held) < holdRows {
-		return n, end()
+		if err := end(); err != nil {
+			return n, err
+		}
+		return n, body.whole()
+	}
+	if err := body.stream(); err != nil {
+		return n, err
 	}
 	for cur.Next() {
 		if max > 0 && n >= max {

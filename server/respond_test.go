@@ -5,6 +5,7 @@ import (
 	"encoding/json"
 	"encoding/xml"
 	"net/url"
+	"strconv"
 	"strings"
 	"testing"
 
@@ -212,5 +213,30 @@ func TestRowLimit(t *testing.T) {
 				t.Errorf("not counted: %q", m)
 			}
 		})
+	}
+}
+
+// TestWholeAnswersCarryTheirLength checks that an answer whole within the
+// rows the server holds back goes out with its Content-Length (one write the
+// client has at once), and that a longer one streams without it.
+func TestWholeAnswersCarryTheirLength(t *testing.T) {
+	for _, c := range []struct {
+		rows   int
+		length bool
+	}{{3, true}, {holdRows + 1, false}} {
+		env := newEnv(t, DefaultConfig(), &fakeEngine{answer: rowsAnswer(c.rows, -1)})
+		r := env.do(t, "GET", "/sparql?query=q", "", "Accept", "text/csv")
+		got := r.header.Get("Content-Length")
+		switch {
+		case r.status != 200:
+			t.Errorf("%d rows: status %d", c.rows, r.status)
+		case c.length && got != strconv.Itoa(len(r.body)):
+			t.Errorf("%d rows: Content-Length %q for a body of %d bytes", c.rows, got, len(r.body))
+		case !c.length && got != "":
+			t.Errorf("%d rows: Content-Length %q on a streamed answer", c.rows, got)
+		}
+		if n := strings.Count(r.body, "\n"); n != c.rows+1 {
+			t.Errorf("%d rows: %d lines in the CSV body, want %d", c.rows, n, c.rows+1)
+		}
 	}
 }
