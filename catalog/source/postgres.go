@@ -211,6 +211,17 @@ func pgValue(k TypeKind, raw []byte) (any, error) {
 	if raw == nil {
 		return nil, nil
 	}
+	// The common forms of large answers, read without a string of their own.
+	switch k {
+	case TypeInteger:
+		if n, ok := plainInteger(raw); ok {
+			return n, nil
+		}
+	case TypeTimestamp, TypeTimestampTZ:
+		if t, ok := plainTimestamp(raw); ok {
+			return t, nil // no zone: UTC
+		}
+	}
 	s := string(raw)
 	switch k {
 	case TypeBinary:

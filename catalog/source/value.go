@@ -141,10 +141,32 @@ func parseTimestamp(s string) (time.Time, error) {
 	return t, nil
 }
 
+// plainInteger reads an integer of at most 18 digits, as databases print
+// them, without the general parser; other text is not for it (ok false).
+func plainInteger(b []byte) (n int64, ok bool) {
+	digits := b
+	if len(digits) > 0 && digits[0] == '-' {
+		digits = digits[1:]
+	}
+	if len(digits) == 0 || len(digits) > 18 {
+		return 0, false
+	}
+	for _, c := range digits {
+		if c < '0' || c > '9' {
+			return 0, false
+		}
+		n = n*10 + int64(c-'0')
+	}
+	if len(digits) < len(b) {
+		n = -n
+	}
+	return n, true
+}
+
 // plainTimestamp reads the form databases print timestamps without a zone in,
 // "YYYY-MM-DD HH:MM:SS" with up to nine digits of fraction, directly: a large
 // answer holds many of them. Other text is not for it (ok false).
-func plainTimestamp(s string) (t time.Time, ok bool) {
+func plainTimestamp[T ~string | ~[]byte](s T) (t time.Time, ok bool) {
 	if len(s) < len("2006-01-02 15:04:05") || len(s) > len("2006-01-02 15:04:05.999999999") ||
 		s[4] != '-' || s[7] != '-' || s[10] != ' ' || s[13] != ':' || s[16] != ':' {
 		return time.Time{}, false

@@ -1,6 +1,7 @@
 package source
 
 import (
+	"strconv"
 	"strings"
 	"testing"
 	"time"
@@ -28,6 +29,23 @@ func TestPlainTimestamp(t *testing.T) {
 		}
 		if full, err := parseTimestamp(s); werr == nil && (err != nil || !full.Equal(want)) {
 			t.Errorf("parseTimestamp(%q) = %v, %v; want %v", s, full, err, want)
+		}
+	}
+}
+
+// TestPlainInteger checks the direct reading of integers against
+// strconv.ParseInt on the forms databases print and on ones it must leave to
+// the general parser.
+func TestPlainInteger(t *testing.T) {
+	for _, s := range []string{"0", "7", "-7", "123456789012345678", "-123456789012345678",
+		"1234567890123456789", "", "-", "+1", "1e3", "12a", " 1"} {
+		want, werr := strconv.ParseInt(s, 10, 64)
+		got, ok := plainInteger([]byte(s))
+		if ok && (werr != nil || got != want) {
+			t.Errorf("%q: read %d, strconv says %d, %v", s, got, want, werr)
+		}
+		if !ok && werr == nil && len(strings.TrimPrefix(s, "-")) <= 18 && !strings.HasPrefix(s, "+") {
+			t.Errorf("%q: not read, strconv reads %d", s, want)
 		}
 	}
 }
