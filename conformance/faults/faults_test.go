@@ -165,17 +165,7 @@ func restart(t *testing.T, v *veneer, db database, want int) {
 	t.Logf("recovery: veneer answered and was ready %v after the database came back", recovery.Round(time.Millisecond))
 	time.Sleep(time.Second)
 	rs := l.Stop()
-	o := sortReplies(rs, want)
-	t.Logf("%d replies: %d answers, %d clean 503s, %d faults; slowest %v", len(rs), len(o.ok), len(o.refused), len(o.bad),
-		slowest(rs).Round(time.Millisecond))
-	for i, r := range o.bad {
-		if i < 5 {
-			t.Errorf("fault: %v", r)
-		}
-	}
-	if len(o.bad) > 0 {
-		t.Logf("veneer's warnings and errors:\n%s", v.problems())
-	}
+	o := v.sorted(t, rs, want, "")
 	if len(o.refused) == 0 {
 		t.Error("no client was refused while the database was down")
 	}
@@ -213,14 +203,7 @@ func killSessions(t *testing.T, v *veneer, db database, want int) {
 	if killed == 0 {
 		t.Fatal("no veneer session to kill")
 	}
-	for i, r := range o.bad {
-		if i < 5 {
-			t.Errorf("fault: %v", r)
-		}
-	}
-	if len(o.bad) > 0 {
-		t.Logf("veneer's warnings and errors:\n%s", v.problems())
-	}
+	v.reportFaults(t, o)
 	inFlight := 0
 	for _, r := range o.refused {
 		during := false
@@ -257,17 +240,7 @@ func lockWait(t *testing.T, v *veneer, db database, want int) {
 		t.Errorf("%d veneer sessions still wait for the lock %v after the load stopped", db.LockWaiters(), d)
 	}
 	release()
-	o := sortReplies(rs, want)
-	t.Logf("%d replies while locked: %d answers, %d clean 503s, %d faults; slowest %v", len(rs), len(o.ok), len(o.refused), len(o.bad),
-		slowest(rs).Round(time.Millisecond))
-	for i, r := range o.bad {
-		if i < 5 {
-			t.Errorf("fault: %v", r)
-		}
-	}
-	if len(o.bad) > 0 {
-		t.Logf("veneer's warnings and errors:\n%s", v.problems())
-	}
+	o := v.sorted(t, rs, want, " while locked")
 	if len(o.refused) == 0 {
 		t.Error("no query timed out while the table was locked")
 	}

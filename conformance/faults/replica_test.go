@@ -70,17 +70,7 @@ func TestReplicaStoppedUnderLoad(t *testing.T) {
 	if m[replicaStatements] <= during {
 		t.Errorf("no statement reached the replica after it came back (%v before, %v after)", during, m[replicaStatements])
 	}
-	o := sortReplies(rs, want)
-	t.Logf("%d replies: %d answers, %d clean 503s, %d faults; slowest %v", len(rs), len(o.ok), len(o.refused), len(o.bad),
-		slowest(rs).Round(time.Millisecond))
-	for i, r := range o.bad {
-		if i < 5 {
-			t.Errorf("fault: %v", r)
-		}
-	}
-	if len(o.bad) > 0 {
-		t.Logf("veneer's warnings and errors:\n%s", v.problems())
-	}
+	o := v.sorted(t, rs, want, "")
 	for _, r := range o.refused {
 		if !(r.start.Before(stopTo) && r.end.After(stopFrom)) {
 			t.Errorf("a query that was not in flight when the replica stopped failed: %v", r)

@@ -342,6 +342,31 @@ type outcome struct {
 	bad         []reply
 }
 
+// sorted sorts the replies of a load, logs their counts with what (" while
+// locked", or ""), and fails the test on every fault, with veneer's warnings.
+func (v *veneer) sorted(t *testing.T, rs []reply, want int, what string) outcome {
+	t.Helper()
+	o := sortReplies(rs, want)
+	t.Logf("%d replies%s: %d answers, %d clean 503s, %d faults; slowest %v", len(rs), what, len(o.ok), len(o.refused), len(o.bad),
+		slowest(rs).Round(time.Millisecond))
+	v.reportFaults(t, o)
+	return o
+}
+
+// reportFaults fails the test on each faulty reply (the first five shown)
+// and logs veneer's warnings and errors when there was one.
+func (v *veneer) reportFaults(t *testing.T, o outcome) {
+	t.Helper()
+	for i, r := range o.bad {
+		if i < 5 {
+			t.Errorf("fault: %v", r)
+		}
+	}
+	if len(o.bad) > 0 {
+		t.Logf("veneer's warnings and errors:\n%s", v.problems())
+	}
+}
+
 func sortReplies(rs []reply, want int) outcome {
 	var o outcome
 	for _, r := range rs {
