@@ -217,6 +217,7 @@ func TestEveryRouteAndToken(t *testing.T) {
 			t.Errorf("GET %s after the queries holds %s", target, leaks(body))
 		}
 	}
+	ts.Close() // waits for every handler, and so for every line it logs
 	logs.mu.Lock()
 	logged := logs.buf.String()
 	logs.mu.Unlock()

@@ -12,6 +12,7 @@ import (
 	"strconv"
 	"strings"
 	"sync"
+	"sync/atomic"
 	"testing"
 	"time"
 
@@ -129,17 +130,28 @@ func blockingAnswer(started chan<- struct{}, release <-chan struct{}) func(ctx c
 	}
 }
 
-// env is a server under test with the places it writes to.
+// env is a server under test with the places it writes to. busy counts the
+// handlers running: a client has a whole answer (sent with its length) before
+// the handler has logged and counted it.
 type env struct {
-	srv *Server
-	ts  *httptest.Server
-	reg *prometheus.Registry
-	log *bytes.Buffer
-	mu  *sync.Mutex
+	srv  *Server
+	ts   *httptest.Server
+	reg  *prometheus.Registry
+	log  *bytes.Buffer
+	mu   *sync.Mutex
+	busy atomic.Int64
 }
 
-// logs returns what the server logged so far.
+// settle waits, for a second at most, until no handler runs.
+func (e *env) settle() {
+	for deadline := time.Now().Add(time.Second); e.busy.Load() > 0 && time.Now().Before(deadline); {
+		time.Sleep(time.Millisecond)
+	}
+}
+
+// logs returns what the server logged so far, once the handlers are done.
 func (e *env) logs() string {
+	e.settle()
 	e.mu.Lock()
 	defer e.mu.Unlock()
 	return e.log.String()
@@ -166,9 +178,15 @@ func newEnv(t *testing.T, cfg Config, e Engine) *env {
 	if err != nil {
 		t.Fatal(err)
 	}
-	ts := httptest.NewServer(s.Handler())
-	t.Cleanup(ts.Close)
-	return &env{srv: s, ts: ts, reg: reg, log: buf, mu: mu}
+	en := &env{srv: s, reg: reg, log: buf, mu: mu}
+	h := s.Handler()
+	en.ts = httptest.NewServer(http.HandlerFunc(func(w http.ResponseWriter, r *http.Request) {
+		en.busy.Add(1)
+		defer en.busy.Add(-1)
+		h.ServeHTTP(w, r)
+	}))
+	t.Cleanup(en.ts.Close)
+	return en
 }
 
 // response is what a test request got.
@@ -210,6 +228,7 @@ func (e *env) do(t *testing.T, method, path, body string, headers ...string) res
 // name.
 func (e *env) metric(t *testing.T, name string) string {
 	t.Helper()
+	e.settle()
 	r := e.do(t, "GET", "/metrics", "")
 	var lines []string
 	for _, l := range strings.Split(r.body, "\n") {
