@@ -416,9 +416,24 @@ func (q *query) strTestSQL(b *branch, c algebra.Call) (sql.Expr, bool) {
 	return sql.StrTest{Op: op, X: o.exprs[0], Arg: sql.Param{Value: lit.Lexical}, Len: sql.Param{Value: n}}, true
 }
 
-// significantDigits counts the digits of a decimal lexical form between its
-// first and last non-zero digit.
+// significantDigits counts the digits of a decimal lexical form from its
+// first to its last non-zero digit.
 func significantDigits(lexical string) int {
-	digits := strings.Trim(strings.NewReplacer("+", "", "-", "", ".", "").Replace(lexical), "0")
-	return len(digits)
+	first, last := -1, -1
+	for i := 0; i < len(lexical); i++ {
+		if c := lexical[i]; c >= '1' && c <= '9' {
+			if first < 0 {
+				first = i
+			}
+			last = i
+		}
+	}
+	if first < 0 {
+		return 0
+	}
+	n := last - first + 1
+	if strings.Contains(lexical[first:last+1], ".") {
+		n-- // the point between them is no digit
+	}
+	return n
 }

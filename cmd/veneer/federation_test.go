@@ -58,10 +58,8 @@ func TestFederatedSources(t *testing.T) {
 	needNode(t)
 	fedDir := npmInstall(t, "federation")
 	refDir := t.TempDir()
-	err := differential.InstallReference(context.Background(), filepath.Join("..", "..", "conformance", "differential", "reference"), refDir, 5*time.Minute)
-	if err != nil {
-		t.Fatal(err)
-	}
+	differential.RequireReference(t, differential.InstallReference(context.Background(),
+		filepath.Join("..", "..", "conformance", "differential", "reference"), refDir, 5*time.Minute))
 	for _, d := range []source.Dialect{source.SQLite, source.Postgres} {
 		t.Run(d.String(), func(t *testing.T) { federatedSources(t, sourcetest.New(t, d), fedDir, refDir) })
 	}

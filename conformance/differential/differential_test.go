@@ -247,16 +247,7 @@ func installedReference(t *testing.T) string {
 			installErr = InstallReference(context.Background(), "reference", installDir, 5*time.Minute)
 		}
 	})
-	if errors.Is(installErr, ErrNoNode) {
-		msg := "no node: " + installErr.Error()
-		if os.Getenv("CI") == "true" {
-			t.Fatal(msg + " (CI=true: the differential test may not be skipped)")
-		}
-		t.Skip(msg)
-	}
-	if installErr != nil {
-		t.Fatal(installErr)
-	}
+	RequireReference(t, installErr)
 	return installDir
 }
 

@@ -2,9 +2,11 @@ package differential
 
 import (
 	"context"
+	"errors"
 	"io"
 	"log/slog"
 	"net/http/httptest"
+	"os"
 	"testing"
 
 	"github.com/prometheus/client_golang/prometheus"
@@ -34,4 +36,22 @@ func Serve(tb testing.TB, cat *catalog.Catalog, src source.Source) string {
 	ts := httptest.NewServer(srv.Handler())
 	tb.Cleanup(ts.Close)
 	return ts.URL
+}
+
+// RequireReference stops a test whose reference engine could not be
+// installed (err from InstallReference): without node or npm it skips with a
+// "no node:" message, or fails under CI=true, where no such test may be
+// skipped; any other error fails it.
+func RequireReference(tb testing.TB, err error) {
+	tb.Helper()
+	switch {
+	case errors.Is(err, ErrNoNode):
+		msg := "no node: " + err.Error()
+		if os.Getenv("CI") == "true" {
+			tb.Fatal(msg + " (CI=true: the test may not be skipped)")
+		}
+		tb.Skip(msg)
+	case err != nil:
+		tb.Fatal(err)
+	}
 }

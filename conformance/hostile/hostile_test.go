@@ -525,17 +525,7 @@ func (r *reference) answer(query string) (*differential.Answer, error) {
 // Without node or npm the test skips, or fails under CI=true.
 func installReference(t *testing.T) string {
 	dir := t.TempDir()
-	err := differential.InstallReference(context.Background(), "../differential/reference", dir, 5*time.Minute)
-	if errors.Is(err, differential.ErrNoNode) {
-		msg := "no node: " + err.Error()
-		if os.Getenv("CI") == "true" {
-			t.Fatal(msg + " (CI=true: the injection test may not be skipped)")
-		}
-		t.Skip(msg)
-	}
-	if err != nil {
-		t.Fatal(err)
-	}
+	differential.RequireReference(t, differential.InstallReference(context.Background(), "../differential/reference", dir, 5*time.Minute))
 	return dir
 }
 
