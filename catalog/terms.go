@@ -31,21 +31,23 @@ func IRISafe(s string) string {
 	if safe == len(s) {
 		return s // nothing to encode, as with most keys
 	}
-	var b strings.Builder
-	b.Grow(len(s) + 8)
-	b.WriteString(s[:safe])
+	return string(AppendIRISafe(make([]byte, 0, len(s)+8), s))
+}
+
+// AppendIRISafe appends s to dst, IRI-safe encoded as IRISafe does.
+func AppendIRISafe[T ~string | ~[]byte](dst []byte, s T) []byte {
 	const hexDigits = "0123456789ABCDEF"
-	for i := safe; i < len(s); i++ {
+	start := 0
+	for i := 0; i < len(s); i++ {
 		c := s[i]
 		if iriSafe(c) {
-			b.WriteByte(c)
 			continue
 		}
-		b.WriteByte('%')
-		b.WriteByte(hexDigits[c>>4])
-		b.WriteByte(hexDigits[c&15])
+		dst = append(dst, s[start:i]...)
+		dst = append(dst, '%', hexDigits[c>>4], hexDigits[c&15])
+		start = i + 1
 	}
-	return b.String()
+	return append(dst, s[start:]...)
 }
 
 // unIRISafe reverses IRISafe. It fails when s could not have come from IRISafe: a
@@ -74,27 +76,22 @@ func unIRISafe(s string) (string, bool) {
 	return b.String(), true
 }
 
-// Expand fills the template with one string per column reference, in the order of
-// Parts. With iri set, values are IRI-safe encoded (R2RML §7.3).
-func (t Template) Expand(values map[string]string, iri bool) string {
-	var b strings.Builder
-	n := 0
+// AppendExpand appends the template filled in to dst: value appends the text
+// of the named column. With iri set, the values are IRI-safe encoded (R2RML
+// §7.3); scratch is room for a value before it is encoded, returned grown.
+func (t Template) AppendExpand(dst, scratch []byte, iri bool, value func(dst []byte, column string) []byte) ([]byte, []byte) {
 	for _, p := range t.Parts {
-		n += len(p.Text) + len(values[p.Column])
-	}
-	b.Grow(n)
-	for _, p := range t.Parts {
-		if p.Column == "" {
-			b.WriteString(p.Text)
-			continue
+		switch {
+		case p.Column == "":
+			dst = append(dst, p.Text...)
+		case iri:
+			scratch = value(scratch[:0], p.Column)
+			dst = AppendIRISafe(dst, scratch)
+		default:
+			dst = value(dst, p.Column)
 		}
-		v := values[p.Column]
-		if iri {
-			v = IRISafe(v)
-		}
-		b.WriteString(v)
 	}
-	return b.String()
+	return dst, scratch
 }
 
 // CheckIRI reports why no IRI the template expands to can be valid, or nil. An
@@ -411,14 +408,68 @@ func CanonicalDouble(f float64, bits int) string {
 	return mant + "E" + strconv.Itoa(e)
 }
 
-func timeLexical(t time.Time, kind source.TypeKind) string {
+func timeLexical(t time.Time, kind source.TypeKind) string { return t.Format(timeLayout(kind)) }
+
+// timeLayout is the layout of the canonical lexical form of a date or
+// timestamp of the given kind.
+func timeLayout(kind source.TypeKind) string {
 	switch kind {
 	case source.TypeDate:
-		return t.Format("2006-01-02")
+		return "2006-01-02"
 	case source.TypeTimestampTZ:
-		return t.Format("2006-01-02T15:04:05.999999999Z07:00")
+		return "2006-01-02T15:04:05.999999999Z07:00"
 	}
-	return t.Format("2006-01-02T15:04:05.999999999")
+	return "2006-01-02T15:04:05.999999999"
+}
+
+// AppendLexical appends Lexical(v, kind) to dst; the values of large answers
+// (integers, strings, timestamps) are written without a string of their own.
+func AppendLexical(dst []byte, v any, kind source.TypeKind) []byte {
+	switch x := v.(type) {
+	case int64:
+		if kind == source.TypeInteger {
+			return strconv.AppendInt(dst, x, 10)
+		}
+	case string:
+		if kind == source.TypeString {
+			return append(dst, x...)
+		}
+	case time.Time:
+		switch kind {
+		case source.TypeDate, source.TypeTimestamp, source.TypeTimestampTZ:
+			return x.AppendFormat(dst, timeLayout(kind))
+		}
+	}
+	return append(dst, Lexical(v, kind)...)
+}
+
+// AppendTextLexical appends the canonical lexical form of a value that a
+// source handed out as text in the plain form of its kind (source.TextRows):
+// strings and integers are their own lexical form, and a timestamp
+// "YYYY-MM-DD HH:MM:SS[.fraction]" takes a T and loses the trailing zeros of
+// its fraction, as Lexical writes it. For other kinds it reports false.
+func AppendTextLexical(dst, text []byte, kind source.TypeKind) ([]byte, bool) {
+	switch kind {
+	case source.TypeString, source.TypeInteger:
+		return append(dst, text...), true
+	case source.TypeTimestamp:
+		const clock = len("2006-01-02 15:04:05")
+		if len(text) < clock {
+			return dst, false
+		}
+		dst = append(dst, text[:10]...)
+		dst = append(dst, 'T')
+		dst = append(dst, text[11:clock]...)
+		frac := text[clock:]
+		for len(frac) > 0 && frac[len(frac)-1] == '0' {
+			frac = frac[:len(frac)-1]
+		}
+		if len(frac) > 1 { // more than the point
+			dst = append(dst, frac...)
+		}
+		return dst, true
+	}
+	return dst, false
 }
 
 // NaturalLiteral returns the natural RDF literal of a normalised SQL value (R2RML

@@ -60,7 +60,8 @@ func TestTemplateMatch(t *testing.T) {
 			t.Errorf("Match(%q) = %v, %v; want %v", c.iri, got, ok, c.want)
 			continue
 		}
-		if back := tmpl.Expand(got, true); back != c.iri {
+		back, _ := tmpl.AppendExpand(nil, nil, true, func(dst []byte, col string) []byte { return append(dst, got[col]...) })
+		if string(back) != c.iri {
 			t.Errorf("Expand(Match(%q)) = %q", c.iri, back)
 		}
 	}
@@ -94,6 +95,46 @@ func TestLexical(t *testing.T) {
 	for _, c := range cases {
 		if got := Lexical(c.v, c.kind); got != c.want {
 			t.Errorf("Lexical(%#v, %v) = %q, want %q (%s)", c.v, c.kind, got, c.want, c.src)
+		}
+		if got := AppendLexical([]byte("x"), c.v, c.kind); string(got) != "x"+c.want {
+			t.Errorf("AppendLexical(x, %#v, %v) = %q, want x%q (%s)", c.v, c.kind, got, c.want, c.src)
+		}
+	}
+}
+
+func TestAppendTextLexical(t *testing.T) {
+	cases := []struct {
+		text string
+		kind source.TypeKind
+		want string
+		src  string
+	}{
+		{"2009-10-10 12:12:22", source.TypeTimestamp, "2009-10-10T12:12:22", "RDB2RDF D016 mappedb.nq, as PostgreSQL prints the value"},
+		// XML Schema 1.1 Part 2 §3.3.7.2 dateTime canonical form: no trailing
+		// zeros in the fraction, no point without digits (from memory).
+		{"2009-10-10 12:12:22.500000", source.TypeTimestamp, "2009-10-10T12:12:22.5", "XSD 1.1 dateTime canonical form"},
+		{"2009-10-10 12:12:22.000", source.TypeTimestamp, "2009-10-10T12:12:22", "XSD 1.1 dateTime canonical form"},
+		{"2009-10-10 12:12:22.123456789", source.TypeTimestamp, "2009-10-10T12:12:22.123456789", "XSD 1.1 dateTime canonical form"},
+		{"-7", source.TypeInteger, "-7", "XSD integer canonical form"},
+		{"Nacelle \"A\"", source.TypeString, "Nacelle \"A\"", "R2RML §10.2: strings map to themselves"},
+	}
+	for _, c := range cases {
+		got, ok := AppendTextLexical([]byte("x"), []byte(c.text), c.kind)
+		if !ok || string(got) != "x"+c.want {
+			t.Errorf("AppendTextLexical(x, %q, %v) = %q, %v; want x%q (%s)", c.text, c.kind, got, ok, c.want, c.src)
+		}
+		// The same as the value's own lexical form, once decoded.
+		var v any = c.text
+		if c.kind == source.TypeTimestamp {
+			v, _ = time.Parse("2006-01-02 15:04:05.999999999", c.text)
+		}
+		if lex := Lexical(v, c.kind); lex != c.want {
+			t.Errorf("Lexical(%#v) = %q, but the text gives %q", v, lex, c.want)
+		}
+	}
+	for _, kind := range []source.TypeKind{source.TypeBoolean, source.TypeDecimal, source.TypeFloat, source.TypeTimestampTZ} {
+		if got, ok := AppendTextLexical(nil, []byte("1"), kind); ok {
+			t.Errorf("AppendTextLexical for %v = %q, want no plain form", kind, got)
 		}
 	}
 }

@@ -91,13 +91,14 @@ type Stats struct {
 // Solutions is a cursor over query solutions, in the manner of
 // database/sql.Rows.
 type Solutions interface {
-	// Vars names the variables, without "?", in the order of Solution's terms.
+	// Vars names the variables, without "?", in the order of Views.
 	Vars() []string
 	// Next advances to the next solution and reports whether there is one.
 	Next() bool
-	// Solution returns the current solution, nil for an unbound variable. The
-	// slice may be reused by the next call to Next.
-	Solution() []rdf.Term
+	// Views returns the current solution, one view per variable, the zero
+	// View for an unbound one. The views and their text may be reused by
+	// the next call to Next.
+	Views() []rdf.View
 	// Err returns the error that ended the iteration, if any.
 	Err() error
 	// Close releases the cursor.

@@ -4,7 +4,6 @@ import (
 	"errors"
 	"fmt"
 	"net/http"
-	"slices"
 	"strconv"
 	"strings"
 
@@ -67,14 +66,14 @@ func (s *Server) writeAnswer(w http.ResponseWriter, a *Answer, f results.Format)
 			return 0, err
 		}
 		cur := a.Solutions
-		row := func(keep bool) []rdf.Term {
+		row := func(keep bool) []rdf.View {
 			if keep {
-				return slices.Clone(cur.Solution())
+				return rdf.CloneViews(cur.Views())
 			}
-			return cur.Solution()
+			return cur.Views()
 		}
 		begin := func() error { return sw.Begin(cur.Vars()) }
-		n, err := stream(cur, row, begin, sw.Row, sw.End, max, out)
+		n, err := stream(cur, row, begin, sw.Views, sw.End, max, out)
 		return n, s.rowLimit(err, max, "solutions")
 	case results.Graph:
 		gw, err := results.NewGraphWriter(f, out, a.Prefixes)

@@ -75,7 +75,8 @@ type fakeCursor struct {
 	n, failAfter, i int
 	delay           time.Duration // before each solution
 	err             error
-	sol             []rdf.Term
+	sol             []rdf.View
+	buf             []byte
 }
 
 func (c *fakeCursor) Vars() []string { return []string{"x"} }
@@ -104,15 +105,16 @@ func (c *fakeCursor) Next() bool {
 	c.i++
 	// The same slice every time, as database/sql-style cursors do.
 	if c.sol == nil {
-		c.sol = make([]rdf.Term, 1)
+		c.sol = make([]rdf.View, 1)
 	}
-	c.sol[0] = rdf.NewString("v" + strconv.Itoa(c.i))
+	c.buf = strconv.AppendInt(append(c.buf[:0], 'v'), int64(c.i), 10)
+	c.sol[0] = rdf.View{Kind: rdf.KindLiteral, Text: c.buf, Datatype: rdf.XSDString}
 	return true
 }
 
-func (c *fakeCursor) Solution() []rdf.Term { return c.sol }
-func (c *fakeCursor) Err() error           { return c.err }
-func (c *fakeCursor) Close() error         { return nil }
+func (c *fakeCursor) Views() []rdf.View { return c.sol }
+func (c *fakeCursor) Err() error        { return c.err }
+func (c *fakeCursor) Close() error      { return nil }
 
 // blockingAnswer waits until the context ends or release is closed, then
 // answers one solution (or the context's error).

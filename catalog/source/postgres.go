@@ -108,6 +108,7 @@ func (s *pgSource) Query(ctx context.Context, sql string, args ...any) (Rows, er
 	}
 	applyKinds(r.cols, hints)
 	r.vals = make([]any, len(fields))
+	r.plain = make([]bool, len(fields))
 	return r, nil
 }
 
@@ -150,16 +151,22 @@ func pgTypeName(oid uint32) string {
 var pgTypes = pgtype.NewMap()
 
 // pgRows is the cursor of a PostgreSQL statement; pending says that the
-// statement's first row has been read (by query) and not yet handed out.
+// statement's first row has been read (by query) and not yet handed out. A
+// value in plain text (see TextRows) is decoded only when Values is asked for.
 type pgRows struct {
 	ctx     context.Context
 	rows    pgx.Rows
 	pending bool
 	cols    []Column
+	raw     [][]byte
+	plain   []bool // by column: raw holds the value in its plain form
 	vals    []any
+	lazy    bool // vals lacks the values of the plain columns
 	err     error
 	closed  bool
 }
+
+var _ TextRows = (*pgRows)(nil)
 
 // Columns implements Rows.
 func (r *pgRows) Columns() []Column { return r.cols }
@@ -174,19 +181,60 @@ func (r *pgRows) Next() bool {
 	} else if !r.rows.Next() {
 		return false
 	}
-	for i, raw := range r.rows.RawValues() {
-		v, err := pgValue(r.cols[i].Kind, raw)
-		if err != nil {
-			r.err = fmt.Errorf("postgres: column %q: %w", r.cols[i].Name, err)
+	r.raw, r.lazy = r.rows.RawValues(), false
+	for i, raw := range r.raw {
+		if r.plain[i] = plainText(r.cols[i].Kind, raw); r.plain[i] {
+			r.lazy = true
+			continue
+		}
+		if r.vals[i], r.err = pgValue(r.cols[i].Kind, raw); r.err != nil {
+			r.err = fmt.Errorf("postgres: column %q: %w", r.cols[i].Name, r.err)
 			return false
 		}
-		r.vals[i] = v
 	}
 	return true
 }
 
 // Values implements Rows.
-func (r *pgRows) Values() []any { return r.vals }
+func (r *pgRows) Values() []any {
+	if r.lazy {
+		r.lazy = false
+		for i, plain := range r.plain {
+			if !plain {
+				continue
+			}
+			var err error
+			// Plain text always decodes; were it not to, the error ends the rows.
+			if r.vals[i], err = pgValue(r.cols[i].Kind, r.raw[i]); err != nil && r.err == nil {
+				r.err = fmt.Errorf("postgres: column %q: %w", r.cols[i].Name, err)
+			}
+		}
+	}
+	return r.vals
+}
+
+// Text implements TextRows.
+func (r *pgRows) Text(i int) ([]byte, bool) { return r.raw[i], r.plain[i] }
+
+// plainText reports whether raw is NULL or in the plain text form of kind k
+// (see TextRows).
+func plainText(k TypeKind, raw []byte) bool {
+	switch {
+	case raw == nil || k == TypeString:
+		return true
+	case k == TypeInteger:
+		digits := raw
+		if len(digits) > 1 && digits[0] == '-' {
+			digits = digits[1:]
+		}
+		_, ok := plainInteger(raw)
+		return ok && (digits[0] != '0' || len(digits) == 1) && string(raw) != "-0"
+	case k == TypeTimestamp:
+		_, ok := plainTimestamp(raw)
+		return ok
+	}
+	return false
+}
 
 // Err implements Rows.
 func (r *pgRows) Err() error {

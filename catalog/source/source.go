@@ -112,6 +112,20 @@ type Rows interface {
 	Close() error
 }
 
+// TextRows is implemented by Rows that hold each value of the current row as
+// the text the database sent (PostgreSQL), so that a value in its plain form
+// can be read without being decoded. Text returns column i's bytes and true
+// when the value is NULL (nil bytes) or its text is in the plain form of the
+// column's kind: any text for TypeString; canonical decimal digits for
+// TypeInteger (a '-' for negative numbers, no leading zero, at most 18
+// digits); for TypeTimestamp a valid "YYYY-MM-DD HH:MM:SS" with up to nine
+// digits of fraction. Otherwise it returns false, and only Values reads the
+// value. The bytes are valid until Next.
+type TextRows interface {
+	Rows
+	Text(i int) ([]byte, bool)
+}
+
 // Source is an open relational source.
 type Source interface {
 	// Dialect reports the SQL dialect.

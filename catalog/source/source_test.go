@@ -410,3 +410,58 @@ func collect(t *testing.T, src source.Source, query string, args ...any) ([]sour
 	}
 	return rows.Columns(), out
 }
+
+// TestPostgresText checks which values PostgreSQL's rows hand out as plain
+// text (source.TextRows) and that Values still decodes every one of them.
+// The text forms are PostgreSQL's output formats (PostgreSQL manual, "Date/Time
+// Output" and "Numeric Types"; from memory).
+func TestPostgresText(t *testing.T) {
+	db := sourcetest.New(t, source.Postgres)
+	src := db.Open(t)
+	ctx := context.Background()
+	rows, err := src.Query(ctx, `SELECT 42::bigint, -7::int, 0::int, 'Nacelle'::text, NULL::int,
+		'2024-03-01 11:45:30.5'::timestamp, '2024-03-01 11:45:30'::timestamp, 1.50::numeric, true,
+		'2024-03-01 11:45:30+02'::timestamptz`)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer rows.Close()
+	text, ok := rows.(source.TextRows)
+	if !ok {
+		t.Fatalf("PostgreSQL rows (%T) hand out no text", rows)
+	}
+	if !rows.Next() {
+		t.Fatal(rows.Err())
+	}
+	want := []struct {
+		text  string
+		plain bool
+		value any
+	}{
+		{"42", true, int64(42)},
+		{"-7", true, int64(-7)},
+		{"0", true, int64(0)},
+		{"Nacelle", true, "Nacelle"},
+		{"", true, nil},
+		{"2024-03-01 11:45:30.5", true, time.Date(2024, 3, 1, 11, 45, 30, 5e8, time.UTC)},
+		{"2024-03-01 11:45:30", true, time.Date(2024, 3, 1, 11, 45, 30, 0, time.UTC)},
+		{"", false, "1.50"},
+		{"", false, true},
+		{"", false, time.Date(2024, 3, 1, 9, 45, 30, 0, time.UTC)},
+	}
+	for i, w := range want {
+		b, plain := text.Text(i)
+		if plain != w.plain || (plain && string(b) != w.text) {
+			t.Errorf("column %d: Text = %q, %v; want %q, %v", i, b, plain, w.text, w.plain)
+		}
+		if plain && w.value == nil && b != nil {
+			t.Errorf("column %d: NULL as text %q, want nil bytes", i, b)
+		}
+	}
+	vals := rows.Values()
+	for i, w := range want {
+		if !sameValue(vals[i], w.value) {
+			t.Errorf("column %d: value %#v, want %#v", i, vals[i], w.value)
+		}
+	}
+}

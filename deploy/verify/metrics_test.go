@@ -41,11 +41,11 @@ func (e *stubEngine) PoolStats() map[string]sql.DBStats {
 
 type emptySolutions struct{}
 
-func (emptySolutions) Vars() []string       { return []string{"x"} }
-func (emptySolutions) Next() bool           { return false }
-func (emptySolutions) Solution() []rdf.Term { return nil }
-func (emptySolutions) Err() error           { return nil }
-func (emptySolutions) Close() error         { return nil }
+func (emptySolutions) Vars() []string    { return []string{"x"} }
+func (emptySolutions) Next() bool        { return false }
+func (emptySolutions) Views() []rdf.View { return nil }
+func (emptySolutions) Err() error        { return nil }
+func (emptySolutions) Close() error      { return nil }
 
 // recorder is a Registerer that keeps what is registered with it, so that
 // the test sees every collector, including vectors that have no series yet.

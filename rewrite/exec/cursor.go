@@ -24,6 +24,7 @@ import (
 	"context"
 	"errors"
 	"fmt"
+	"slices"
 	"strings"
 	"time"
 
@@ -56,6 +57,19 @@ type Cursor struct {
 	triples tripleSource
 	triple  rdf.Triple
 	answer  bool
+
+	// A SELECT whose plan is one scan without checks, perhaps projected, is
+	// streamed as views straight from the scan's rows (direct), by slot
+	// (slotViews) and then by result variable (views); cur is then made
+	// only when Solution is asked for. For any other plan views are made
+	// from cur when asked for. fresh says which of cur and views holds the
+	// current solution besides the one Next made.
+	direct    *scanIter
+	projected bool // direct's rows pass a Project: each is a residual evaluation
+	slotViews []rdf.View
+	views     []rdf.View
+	buf       []byte
+	fresh     bool
 
 	err  error
 	done bool
@@ -112,6 +126,10 @@ func open(ctx context.Context, src source.Source, pp patternPlanner, p *rewrite.
 			c.proj = append(c.proj, b.l.slot(v))
 		}
 		c.cur = make([]rdf.Term, len(p.Vars))
+		c.views = make([]rdf.View, len(p.Vars))
+		if c.direct, c.projected = directScan(root.it, c.proj); c.direct != nil {
+			c.slotViews = make([]rdf.View, b.l.width())
+		}
 	case algebra.Ask:
 		sol, err := c.root.next()
 		c.root.close()
@@ -152,6 +170,19 @@ func (c *Cursor) Next() bool {
 	ok := false
 	switch c.form {
 	case algebra.Select:
+		c.fresh = false
+		if c.direct != nil {
+			clear(c.slotViews)
+			if ok, c.buf, err = c.direct.nextViews(c.slotViews, c.buf[:0]); ok {
+				for i, s := range c.proj {
+					c.views[i] = c.slotViews[s]
+				}
+				if c.projected {
+					c.r.residual++
+				}
+			}
+			break
+		}
 		var sol []rdf.Term
 		if sol, err = c.root.next(); sol != nil {
 			for i, s := range c.proj {
@@ -173,7 +204,45 @@ func (c *Cursor) Next() bool {
 
 // Solution returns the current solution of SELECT: one term per result
 // variable, nil where unbound. The slice is reused by the next call to Next.
-func (c *Cursor) Solution() []rdf.Term { return c.cur }
+func (c *Cursor) Solution() []rdf.Term {
+	if c.direct != nil && !c.fresh {
+		for i, v := range c.views {
+			c.cur[i] = v.Term()
+		}
+		c.fresh = true
+	}
+	return c.cur
+}
+
+// Views returns the current solution of SELECT as views, one per result
+// variable, the zero View where unbound: what a result writer reads. The
+// views and their text are reused by the next call to Next. A plan that is
+// one scan hands its rows out this way without making a term of any value.
+func (c *Cursor) Views() []rdf.View {
+	if c.direct == nil && !c.fresh {
+		c.buf = rdf.AppendViews(c.views, c.buf[:0], c.cur)
+		c.fresh = true
+	}
+	return c.views
+}
+
+// directScan finds the scan of a plan whose solutions can stream as views:
+// one scan without checks, alone or under a Project that keeps every result
+// variable (slots proj); projected says it is under one.
+func directScan(it iterator, proj []int) (s *scanIter, projected bool) {
+	if p, ok := it.(*projectIter); ok {
+		for _, slot := range proj {
+			if !slices.Contains(p.vars, slot) {
+				return nil, false
+			}
+		}
+		it, projected = p.in, true
+	}
+	if s, ok := it.(*scanIter); ok && len(s.checks) == 0 {
+		return s, projected
+	}
+	return nil, false
+}
 
 // Triple returns the current triple of CONSTRUCT or DESCRIBE.
 func (c *Cursor) Triple() rdf.Triple { return c.triple }

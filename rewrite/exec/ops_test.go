@@ -2,6 +2,7 @@ package exec
 
 import (
 	"context"
+	"fmt"
 	"slices"
 	"strings"
 	"testing"
@@ -67,12 +68,54 @@ func runSelect(t *testing.T, src source.Source, pp patternPlanner, op rewrite.Op
 	defer c.Close()
 	var out []string
 	for c.Next() {
-		out = append(out, showSolution(c.Vars(), c.Solution()))
+		// The views a result writer reads hold the same terms as the solution.
+		views := c.Views()
+		sol := c.Solution()
+		for i, v := range views {
+			if got := v.Term(); (got == nil) != (sol[i] == nil) || got != nil && !rdf.SameTerm(got, sol[i]) {
+				t.Errorf("?%s: view %v, solution %v", vars[i], got, sol[i])
+			}
+		}
+		out = append(out, showSolution(c.Vars(), sol))
 	}
 	if err := c.Err(); err != nil {
 		t.Fatal(err)
 	}
 	return out
+}
+
+func TestDirectScan(t *testing.T) {
+	// A plan of one scan, projected or not, streams views from its rows; a
+	// plan with an in-process operator makes terms first.
+	project := &rewrite.Project{Vars: []algebra.Var{"n"}, Input: intScan()}
+	filter := &rewrite.Filter{Input: intScan(), Exprs: []algebra.Expr{expr(t, "?n >= 0")}}
+	for _, c := range []struct {
+		name   string
+		op     rewrite.Op
+		direct bool
+	}{{"scan", intScan(), true}, {"project", project, true}, {"filter", filter, false}} {
+		src := &fakeSource{rows: [][]any{{int64(3)}, {nil}, {int64(-12)}}}
+		cur, err := start(context.Background(), src, nil, &rewrite.Plan{Form: algebra.Select, Vars: []algebra.Var{"n"}, Root: c.op}, Options{})
+		if err != nil {
+			t.Fatal(err)
+		}
+		if (cur.direct != nil) != c.direct {
+			t.Errorf("%s: direct %v, want %v", c.name, cur.direct != nil, c.direct)
+		}
+		var got []string
+		for cur.Next() {
+			v := cur.Views()[0]
+			got = append(got, fmt.Sprintf("%d %s %s", v.Kind, v.Text, string(v.Datatype)))
+		}
+		want := []string{"3 3 " + string(rdf.XSDInteger), "0  ", "3 -12 " + string(rdf.XSDInteger)}
+		if c.name == "filter" {
+			want = want[:1] // -12 fails ?n >= 0, and it is an error for the unbound ?n
+		}
+		if !slices.Equal(got, want) {
+			t.Errorf("%s: views %q, want %q", c.name, got, want)
+		}
+		cur.Close()
+	}
 }
 
 func showSolution(vars []string, sol []rdf.Term) string {

@@ -2,6 +2,7 @@ package exec
 
 import (
 	"fmt"
+	"slices"
 
 	"veneer/catalog"
 	"veneer/catalog/rdf"
@@ -38,7 +39,7 @@ type scanIter struct {
 	slots  []slotDecoder
 	checks []checkDecoder
 	scope  []int
-	rows   source.Rows
+	rows   rowReader
 	done   bool
 }
 
@@ -53,24 +54,12 @@ type checkDecoder struct {
 }
 
 func (s *scanIter) next() ([]rdf.Term, error) {
-	if s.done {
-		return nil, nil
-	}
-	if s.rows == nil {
-		if s.op.Stmt == nil {
-			s.done = true // no triples map can answer: no SQL at all
-			return nil, nil
+	for {
+		ok, err := s.advance()
+		if !ok {
+			return nil, err
 		}
-		args := append([]any{source.Kinds(s.op.Kinds)}, s.op.Args...)
-		rows, err := s.r.src.Query(s.r.ctx, s.op.SQL, args...)
-		if err != nil {
-			s.done = true
-			return nil, s.r.fail(fmt.Errorf("running the query's SQL: %w", err))
-		}
-		s.rows = rows
-	}
-	for s.rows.Next() {
-		sol, err := s.decode(s.rows.Values())
+		sol, err := s.decode()
 		if err != nil {
 			s.close()
 			return nil, s.r.fail(err)
@@ -79,21 +68,69 @@ func (s *scanIter) next() ([]rdf.Term, error) {
 			return sol, nil
 		}
 	}
-	err := s.rows.Err()
-	s.close()
-	if err != nil {
-		return nil, s.r.fail(fmt.Errorf("reading the query's rows: %w", err))
-	}
-	return nil, nil
 }
 
-// decode turns one row into a solution, or nil when a check fails; the error is
-// a data error (a value that makes no valid IRI).
-func (s *scanIter) decode(row []any) ([]rdf.Term, error) {
+// nextViews reads the next row into views, by slot, with their text appended
+// to buf; dst must be as wide as the layout and zero. It returns false at the
+// end. It is for a scan without checks only (see Cursor).
+func (s *scanIter) nextViews(dst []rdf.View, buf []byte) (bool, []byte, error) {
+	ok, err := s.advance()
+	if !ok {
+		return false, buf, err
+	}
+	for _, d := range s.slots {
+		for _, tb := range d.builders {
+			var v rdf.View
+			if v, buf, err = tb.view(&s.rows, buf); err != nil {
+				s.close()
+				return false, buf, s.r.fail(err)
+			}
+			if v.Kind != 0 {
+				dst[d.slot] = v
+				break
+			}
+		}
+	}
+	return true, buf, nil
+}
+
+// advance moves to the next row, sending the SQL first if it has not gone
+// yet; it returns false at the end, and closes the scan then.
+func (s *scanIter) advance() (bool, error) {
+	if s.done {
+		return false, nil
+	}
+	if s.rows.rows == nil {
+		if s.op.Stmt == nil {
+			s.done = true // no triples map can answer: no SQL at all
+			return false, nil
+		}
+		args := append([]any{source.Kinds(s.op.Kinds)}, s.op.Args...)
+		rows, err := s.r.src.Query(s.r.ctx, s.op.SQL, args...)
+		if err != nil {
+			s.done = true
+			return false, s.r.fail(fmt.Errorf("running the query's SQL: %w", err))
+		}
+		s.rows.start(rows)
+	}
+	if s.rows.next() {
+		return true, nil
+	}
+	err := s.rows.rows.Err()
+	s.close()
+	if err != nil {
+		return false, s.r.fail(fmt.Errorf("reading the query's rows: %w", err))
+	}
+	return false, nil
+}
+
+// decode turns the current row into a solution, or nil when a check fails;
+// the error is a data error (a value that makes no valid IRI).
+func (s *scanIter) decode() ([]rdf.Term, error) {
 	sol := make([]rdf.Term, s.l.width())
 	for _, d := range s.slots {
 		for _, tb := range d.builders {
-			t, err := tb.build(row)
+			t, err := tb.build(&s.rows)
 			if err != nil {
 				return nil, err
 			}
@@ -104,7 +141,7 @@ func (s *scanIter) decode(row []any) ([]rdf.Term, error) {
 		}
 	}
 	for _, ch := range s.checks {
-		t, err := ch.builder.build(row)
+		t, err := ch.builder.build(&s.rows)
 		if err != nil {
 			return nil, err
 		}
@@ -120,108 +157,197 @@ func (s *scanIter) decode(row []any) ([]rdf.Term, error) {
 
 func (s *scanIter) close() {
 	s.done = true
-	if s.rows != nil {
-		s.rows.Close()
-		s.rows = nil
+	if s.rows.rows != nil {
+		s.rows.rows.Close()
+		s.rows = rowReader{}
 	}
 }
 
+// rowReader reads the current row of a scan's statement. A value's lexical
+// form comes straight from the text the database sent where the source keeps
+// it (source.TextRows), and from the row's decoded values otherwise, which
+// are asked for at most once a row.
+type rowReader struct {
+	rows  source.Rows
+	text  source.TextRows // nil when the source hands out values only
+	kinds []source.TypeKind
+	vals  []any
+}
+
+func (r *rowReader) start(rows source.Rows) {
+	r.rows = rows
+	r.text, _ = rows.(source.TextRows)
+	for _, c := range rows.Columns() {
+		r.kinds = append(r.kinds, c.Kind)
+	}
+}
+
+func (r *rowReader) next() bool {
+	r.vals = nil
+	return r.rows.Next()
+}
+
+func (r *rowReader) values() []any {
+	if r.vals == nil {
+		r.vals = r.rows.Values()
+	}
+	return r.vals
+}
+
+// null reports whether column i is NULL, or not in the row at all.
+func (r *rowReader) null(i int) bool {
+	if r.text != nil && i >= 0 && i < len(r.kinds) {
+		if b, ok := r.text.Text(i); ok {
+			return b == nil
+		}
+	}
+	v := r.values()
+	return i < 0 || i >= len(v) || v[i] == nil
+}
+
+// appendLexical appends the lexical form of column i, which is not NULL, for
+// kind (catalog.Lexical).
+func (r *rowReader) appendLexical(dst []byte, i int, kind source.TypeKind) []byte {
+	if r.text != nil && i < len(r.kinds) && kind == r.kinds[i] {
+		if b, ok := r.text.Text(i); ok {
+			if out, ok := catalog.AppendTextLexical(dst, b, kind); ok {
+				return out
+			}
+		}
+	}
+	return catalog.AppendLexical(dst, r.values()[i], kind)
+}
+
 // termBuilder builds the term of one rewrite.Builder from rows; it keeps the
-// map a template expansion needs between rows.
+// buffers it needs between rows.
 type termBuilder struct {
-	b      rewrite.Builder
-	names  []string
-	values map[string]string
+	b        rewrite.Builder
+	names    []string
+	datatype rdf.IRI // of a natural literal: by the column's kind
 	// validIRIs says the template always yields a valid absolute IRI: its text
 	// starts with a scheme and was checked at load (Template.CheckIRI), and the
 	// values are IRI-safe encoded, so no per-row check is needed.
 	validIRIs bool
+	buf       []byte // a term's text, for build
+	scratch   []byte // a template value before its encoding, a blank label
 }
 
 func newTermBuilder(b rewrite.Builder) *termBuilder {
 	tb := &termBuilder{b: b}
-	if m := b.Map; m.Kind == catalog.TemplateMap {
+	switch m := b.Map; m.Kind {
+	case catalog.TemplateMap:
 		tb.names = m.Template.Columns()
-		tb.values = make(map[string]string, len(tb.names))
 		parts := m.Template.Parts
 		tb.validIRIs = m.TermType == rdf.KindIRI && len(parts) > 0 && parts[0].Column == "" &&
 			rdf.IsAbsoluteIRI(parts[0].Text) && m.Template.CheckIRI() == nil
+	case catalog.Column:
+		if len(b.Kinds) == 1 {
+			if tb.datatype = catalog.NaturalDatatype(b.Kinds[0]); tb.datatype == "" {
+				tb.datatype = rdf.XSDString
+			}
+		}
 	}
 	return tb
 }
 
-// build builds the term the builder's term map yields from a row, or nil when
-// a column it needs is NULL (R2RML §11: no term, so no triple). A value that
-// makes no valid IRI is a data error (R2RML §11), never a wrong term.
-func (tb *termBuilder) build(row []any) (rdf.Term, error) {
-	b, names, values := tb.b, tb.names, tb.values
-	m := b.Map
-	for _, col := range b.Cols {
-		if col < 0 || col >= len(row) || row[col] == nil {
+// build builds the term the builder's term map yields from the current row,
+// or nil when a column it needs is NULL (R2RML §11: no term, so no triple).
+func (tb *termBuilder) build(r *rowReader) (rdf.Term, error) {
+	if m := tb.b.Map; m.Kind == catalog.Constant {
+		if tb.anyNull(r) {
 			return nil, nil
 		}
+		return m.Constant, nil
 	}
-	var lexical string
+	v, buf, err := tb.view(r, tb.buf[:0])
+	tb.buf = buf
+	if err != nil {
+		return nil, err
+	}
+	return v.Term(), nil
+}
+
+func (tb *termBuilder) anyNull(r *rowReader) bool {
+	for _, col := range tb.b.Cols {
+		if r.null(col) {
+			return true
+		}
+	}
+	return false
+}
+
+// view is build without a term: it appends the term's text to buf and
+// returns its view, the zero View when a column it needs is NULL. A value
+// that makes no valid IRI is a data error (R2RML §11), never a wrong term.
+func (tb *termBuilder) view(r *rowReader, buf []byte) (rdf.View, []byte, error) {
+	b := tb.b
+	m := b.Map
+	if tb.anyNull(r) {
+		return rdf.View{}, buf, nil
+	}
+	start := len(buf)
 	switch m.Kind {
 	case catalog.Constant:
-		return m.Constant, nil
+		v, buf := rdf.AppendView(buf, m.Constant)
+		return v, buf, nil
 	case catalog.Column:
 		if len(b.Cols) != 1 || len(b.Kinds) != 1 {
-			return nil, nil
+			return rdf.View{}, buf, nil
 		}
-		v, kind := row[b.Cols[0]], b.Kinds[0]
+		buf = r.appendLexical(buf, b.Cols[0], b.Kinds[0])
 		if m.TermType == rdf.KindLiteral && m.Datatype == "" && m.Language == "" {
-			return catalog.NaturalLiteral(v, kind), nil
+			return rdf.View{Kind: rdf.KindLiteral, Text: buf[start:len(buf):len(buf)], Datatype: tb.datatype}, buf, nil
 		}
-		lexical = catalog.Lexical(v, kind)
 	case catalog.TemplateMap:
-		if len(b.Cols) != len(names) || len(b.Kinds) != len(names) {
-			return nil, nil
+		if len(b.Cols) != len(tb.names) || len(b.Kinds) != len(tb.names) {
+			return rdf.View{}, buf, nil
 		}
-		for i, name := range names {
-			values[name] = catalog.Lexical(row[b.Cols[i]], b.Kinds[i])
-		}
-		lexical = m.Template.Expand(values, m.TermType == rdf.KindIRI)
+		buf, tb.scratch = m.Template.AppendExpand(buf, tb.scratch, m.TermType == rdf.KindIRI, func(dst []byte, column string) []byte {
+			k := slices.Index(tb.names, column)
+			return r.appendLexical(dst, b.Cols[k], b.Kinds[k])
+		})
 	default:
-		return nil, nil
+		return rdf.View{}, buf, nil
 	}
+	text := buf[start:len(buf):len(buf)]
 	switch m.TermType {
 	case rdf.KindIRI:
-		if tb.validIRIs {
-			return rdf.IRI(lexical), nil
+		if !tb.validIRIs {
+			iri, err := m.MakeIRI(string(text))
+			if err != nil {
+				return rdf.View{}, buf[:start], err
+			}
+			buf = append(buf[:start], iri...)
+			text = buf[start:len(buf):len(buf)]
 		}
-		iri, err := m.MakeIRI(lexical)
-		if err != nil {
-			return nil, err
-		}
-		return iri, nil
+		return rdf.View{Kind: rdf.KindIRI, Text: text}, buf, nil
 	case rdf.KindBlank:
-		return rdf.BlankNode(blankLabel(lexical)), nil
+		tb.scratch = appendBlankLabel(tb.scratch[:0], text)
+		buf = append(buf[:start], tb.scratch...)
+		return rdf.View{Kind: rdf.KindBlank, Text: buf[start:len(buf):len(buf)]}, buf, nil
 	}
 	switch {
 	case m.Language != "":
-		return rdf.NewLangString(lexical, m.Language), nil
+		return rdf.View{Kind: rdf.KindLiteral, Text: text, Datatype: rdf.RDFLangString, Lang: m.Language}, buf, nil
 	case m.Datatype != "":
-		return rdf.NewTyped(lexical, m.Datatype), nil
+		return rdf.View{Kind: rdf.KindLiteral, Text: text, Datatype: m.Datatype}, buf, nil
 	}
-	return rdf.NewString(lexical), nil
+	return rdf.View{Kind: rdf.KindLiteral, Text: text, Datatype: rdf.XSDString}, buf, nil
 }
 
-// blankLabel turns the string a blank node map yields into a label N-Triples
-// accepts: letters and digits stay, every other byte becomes '_' and two hex
-// digits, so distinct strings keep distinct labels. Every label starts with
-// "b" (see run.freshBlank).
-func blankLabel(s string) string {
+// appendBlankLabel appends the label N-Triples accepts for the string s a
+// blank node map yields: letters and digits stay, every other byte becomes
+// '_' and two hex digits, so distinct strings keep distinct labels. Every
+// label starts with "b" (see run.freshBlank).
+func appendBlankLabel(dst, s []byte) []byte {
 	const hexDigits = "0123456789abcdef"
-	b := make([]byte, 1, len(s)+1)
-	b[0] = 'b'
-	for i := 0; i < len(s); i++ {
-		c := s[i]
+	dst = append(dst, 'b')
+	for _, c := range s {
 		if 'a' <= c && c <= 'z' || 'A' <= c && c <= 'Z' || '0' <= c && c <= '9' {
-			b = append(b, c)
+			dst = append(dst, c)
 			continue
 		}
-		b = append(b, '_', hexDigits[c>>4], hexDigits[c&15])
+		dst = append(dst, '_', hexDigits[c>>4], hexDigits[c&15])
 	}
-	return string(b)
+	return dst
 }

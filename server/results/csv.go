@@ -1,9 +1,9 @@
 package results
 
 import (
+	"bytes"
 	"fmt"
 	"io"
-	"strings"
 
 	"veneer/catalog/rdf"
 )
@@ -43,27 +43,24 @@ func (csvEncoder) head(dst []byte, vars []string) []byte {
 
 // row writes one line of fields. A line of one empty field is written as ""
 // rather than as an empty line, which many CSV readers skip.
-func (csvEncoder) row(dst []byte, _ int, vars []string, sol []rdf.Term) ([]byte, error) {
+func (csvEncoder) row(dst []byte, _ int, vars []string, row []rdf.View) ([]byte, error) {
 	start := len(dst)
-	for j, t := range sol {
+	for j, t := range row {
 		if j > 0 {
 			dst = append(dst, ',')
 		}
 		var err error
-		switch t := t.(type) {
-		case nil:
-		case rdf.IRI:
-			dst, err = appendCSVField(dst, "", string(t))
-		case rdf.BlankNode:
-			dst, err = appendCSVField(dst, "_:", string(t))
-		case rdf.Literal:
-			dst, err = appendCSVField(dst, "", t.Lexical)
+		switch t.Kind {
+		case rdf.KindIRI, rdf.KindLiteral:
+			dst, err = appendCSVField(dst, "", t.Text)
+		case rdf.KindBlank:
+			dst, err = appendCSVField(dst, "_:", t.Text)
 		}
 		if err != nil {
 			return dst, fmt.Errorf("?%s: %w", vars[j], err)
 		}
 	}
-	if len(sol) == 1 && len(dst) == start {
+	if len(row) == 1 && len(dst) == start {
 		dst = append(dst, `""`...)
 	}
 	return append(dst, "\r\n"...), nil
@@ -74,18 +71,18 @@ func (csvEncoder) tail(dst []byte) []byte { return dst }
 // appendCSVField appends the field prefix+s, in double quotes with inner
 // quotes doubled when it holds a quote, comma, CR or LF (RFC 4180 §2 rules 6
 // and 7). Text that is not UTF-8 is an error.
-func appendCSVField(dst []byte, prefix, s string) ([]byte, error) {
+func appendCSVField(dst []byte, prefix string, s []byte) ([]byte, error) {
 	if err := checkUTF8(s); err != nil {
 		return dst, err
 	}
-	if !strings.ContainsAny(s, "\",\r\n") {
+	if !bytes.ContainsAny(s, "\",\r\n") {
 		dst = append(dst, prefix...)
 		return append(dst, s...), nil
 	}
 	dst = append(dst, '"')
 	dst = append(dst, prefix...)
 	for {
-		i := strings.IndexByte(s, '"')
+		i := bytes.IndexByte(s, '"')
 		if i < 0 {
 			break
 		}
@@ -114,16 +111,16 @@ func (tsvEncoder) head(dst []byte, vars []string) []byte {
 
 // row writes the terms separated by tabs. The Turtle syntax escapes tab, LF
 // and CR inside IRIs and literals, so they cannot break the line.
-func (e tsvEncoder) row(dst []byte, _ int, vars []string, sol []rdf.Term) ([]byte, error) {
-	for j, t := range sol {
+func (e tsvEncoder) row(dst []byte, _ int, vars []string, row []rdf.View) ([]byte, error) {
+	for j, v := range row {
 		if j > 0 {
 			dst = append(dst, '\t')
 		}
-		if t == nil {
+		if v.Kind == 0 {
 			continue
 		}
 		var err error
-		if dst, err = e.terms.appendTerm(dst, t); err != nil {
+		if dst, err = e.terms.appendTerm(dst, v.Term()); err != nil {
 			return dst, fmt.Errorf("?%s: %w", vars[j], err)
 		}
 	}

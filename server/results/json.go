@@ -34,14 +34,14 @@ func (jsonEncoder) head(dst []byte, vars []string) []byte {
 
 // row writes one binding object. An unbound variable has no member
 // (JSON Format §3.2.1).
-func (jsonEncoder) row(dst []byte, i int, vars []string, sol []rdf.Term) ([]byte, error) {
+func (jsonEncoder) row(dst []byte, i int, vars []string, row []rdf.View) ([]byte, error) {
 	if i > 0 {
 		dst = append(dst, ',')
 	}
 	dst = append(dst, "\n{"...)
 	first := true
-	for j, t := range sol {
-		if t == nil {
+	for j, t := range row {
+		if t.Kind == 0 {
 			continue
 		}
 		if !first {
@@ -68,18 +68,18 @@ func (jsonEncoder) tail(dst []byte) []byte { return append(dst, "\n]}}\n"...) }
 //	{"type": "literal", "value": S, "xml:lang": L}         language-tagged literal
 //	{"type": "literal", "value": S, "datatype": D}         any other literal
 //	{"type": "bnode", "value": B}
-func appendJSONTerm(dst []byte, t rdf.Term) ([]byte, error) {
+func appendJSONTerm(dst []byte, t rdf.View) ([]byte, error) {
 	var err error
-	switch t := t.(type) {
-	case rdf.IRI:
+	switch t.Kind {
+	case rdf.KindIRI:
 		dst = append(dst, `{"type":"uri","value":`...)
-		dst, err = appendJSONString(dst, string(t))
-	case rdf.BlankNode:
+		dst, err = appendJSONString(dst, t.Text)
+	case rdf.KindBlank:
 		dst = append(dst, `{"type":"bnode","value":`...)
-		dst, err = appendJSONString(dst, string(t))
-	case rdf.Literal:
+		dst, err = appendJSONString(dst, t.Text)
+	case rdf.KindLiteral:
 		dst = append(dst, `{"type":"literal","value":`...)
-		if dst, err = appendJSONString(dst, t.Lexical); err != nil {
+		if dst, err = appendJSONString(dst, t.Text); err != nil {
 			return dst, err
 		}
 		switch {
@@ -99,14 +99,14 @@ func appendJSONTerm(dst []byte, t rdf.Term) ([]byte, error) {
 // JSON allows raw but JavaScript source does not (common practice, also done
 // by encoding/json). Text that is not UTF-8 is an error: JSON text is Unicode
 // (RFC 8259 §8.1) and a replacement character would change the term.
-func appendJSONString(dst []byte, s string) ([]byte, error) {
+func appendJSONString[T text](dst []byte, s T) ([]byte, error) {
 	dst = append(dst, '"')
 	dst, err := appendJSONEscaped(dst, s)
 	return append(dst, '"'), err
 }
 
 // appendJSONEscaped appends the inside of the JSON string for s.
-func appendJSONEscaped(dst []byte, s string) ([]byte, error) {
+func appendJSONEscaped[T text](dst []byte, s T) ([]byte, error) {
 	const hex = "0123456789abcdef"
 	start := 0
 	for i := 0; i < len(s); {
@@ -137,7 +137,7 @@ func appendJSONEscaped(dst []byte, s string) ([]byte, error) {
 			start = i
 			continue
 		}
-		r, size := utf8.DecodeRuneInString(s[i:])
+		r, size := decodeRune(s[i:])
 		if r == utf8.RuneError && size == 1 {
 			return dst, fmt.Errorf("invalid UTF-8 at byte %d", i)
 		}

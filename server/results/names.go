@@ -79,17 +79,34 @@ func appendBlankLabel(dst []byte, label string) []byte {
 	return dst
 }
 
+// text is the text a writer escapes: a string, or the bytes of a view.
+type text interface{ string | []byte }
+
+// decodeRune is utf8.DecodeRuneInString or utf8.DecodeRune, for either kind
+// of text.
+func decodeRune[T text](s T) (rune, int) {
+	switch s := any(s).(type) {
+	case string:
+		return utf8.DecodeRuneInString(s)
+	case []byte:
+		return utf8.DecodeRune(s)
+	}
+	panic("unreachable")
+}
+
 // checkUTF8 reports where s stops being UTF-8. Every format here is Unicode
 // text, and a replacement character would change the term.
-func checkUTF8(s string) error {
-	if utf8.ValidString(s) {
-		return nil
+func checkUTF8[T text](s T) error {
+	i := 0
+	for i < len(s) && s[i] < utf8.RuneSelf {
+		i++ // the ASCII most text is
 	}
-	for i := 0; ; {
-		r, size := utf8.DecodeRuneInString(s[i:])
+	for i < len(s) {
+		r, size := decodeRune(s[i:])
 		if r == utf8.RuneError && size == 1 {
 			return fmt.Errorf("invalid UTF-8 at byte %d", i)
 		}
 		i += size
 	}
+	return nil
 }

@@ -51,6 +51,10 @@ type SelectWriter interface {
 	// Row writes one solution: one term per variable, in the order given to
 	// Begin, with nil for an unbound variable.
 	Row(sol []rdf.Term) error
+	// Views writes one solution held as views, as Row does; the zero View
+	// is an unbound variable. The writer keeps neither the views nor their
+	// text.
+	Views(row []rdf.View) error
 	// End completes the document and flushes it. Nothing else does.
 	End() error
 }
@@ -202,7 +206,7 @@ type solutionEncoder interface {
 	head(dst []byte, vars []string) []byte
 	// row appends solution number i (from 0). An error names the variable
 	// whose term the format cannot carry.
-	row(dst []byte, i int, vars []string, sol []rdf.Term) ([]byte, error)
+	row(dst []byte, i int, vars []string, row []rdf.View) ([]byte, error)
 	tail(dst []byte) []byte
 }
 
@@ -216,6 +220,9 @@ type selectWriter struct {
 	machine
 	enc  solutionEncoder
 	vars []string
+	// views and text hold the solution Row is given, as views.
+	views []rdf.View
+	text  []byte
 }
 
 func newSelectWriter(w io.Writer, format string, enc solutionEncoder) *selectWriter {
@@ -238,14 +245,27 @@ func (w *selectWriter) Begin(vars []string) error {
 
 // Row implements SelectWriter.
 func (w *selectWriter) Row(sol []rdf.Term) error {
-	if err := w.enter(stateOpen, "Row"); err != nil {
+	if len(sol) == len(w.vars) {
+		w.views = slices.Grow(w.views[:0], len(sol))[:len(sol)]
+		w.text = rdf.AppendViews(w.views, w.text[:0], sol)
+		return w.write("Row", w.views)
+	}
+	return w.write("Row", make([]rdf.View, len(sol)))
+}
+
+// Views implements SelectWriter.
+func (w *selectWriter) Views(row []rdf.View) error { return w.write("Views", row) }
+
+// write writes one solution for the operation op.
+func (w *selectWriter) write(op string, row []rdf.View) error {
+	if err := w.enter(stateOpen, op); err != nil {
 		return err
 	}
-	if len(sol) != len(w.vars) {
+	if len(row) != len(w.vars) {
 		return w.fail(fmt.Errorf("results: %s row %d has %d terms for %d variables",
-			w.format, w.n+1, len(sol), len(w.vars)))
+			w.format, w.n+1, len(row), len(w.vars)))
 	}
-	buf, err := w.enc.row(w.buf, w.n, w.vars, sol)
+	buf, err := w.enc.row(w.buf, w.n, w.vars, row)
 	if err != nil {
 		return w.fail(fmt.Errorf("results: %s row %d: %w", w.format, w.n+1, err))
 	}

@@ -243,7 +243,7 @@ func streamOnce(ctx context.Context, e *exec.Engine, query string, f results.For
 	}
 	n := 0
 	for cur.Next() {
-		if err := sw.Row(cur.Solution()); err != nil {
+		if err := sw.Views(cur.Views()); err != nil {
 			return n, err
 		}
 		n++

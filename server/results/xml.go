@@ -41,10 +41,10 @@ func (xmlEncoder) head(dst []byte, vars []string) []byte {
 
 // row writes one result element; an unbound variable has no binding element
 // (XML Format §2.3.1).
-func (xmlEncoder) row(dst []byte, _ int, vars []string, sol []rdf.Term) ([]byte, error) {
+func (xmlEncoder) row(dst []byte, _ int, vars []string, row []rdf.View) ([]byte, error) {
 	dst = append(dst, "<result>"...)
-	for j, t := range sol {
-		if t == nil {
+	for j, t := range row {
+		if t.Kind == 0 {
 			continue
 		}
 		dst = append(dst, `<binding name="`...)
@@ -68,18 +68,18 @@ func (xmlEncoder) tail(dst []byte) []byte { return append(dst, "</results>\n</sp
 //	<literal xml:lang="L">S</literal>        language-tagged literal
 //	<literal datatype="D">S</literal>        any other literal
 //	<bnode>B</bnode>
-func appendXMLTerm(dst []byte, t rdf.Term) ([]byte, error) {
+func appendXMLTerm(dst []byte, t rdf.View) ([]byte, error) {
 	var err error
-	switch t := t.(type) {
-	case rdf.IRI:
+	switch t.Kind {
+	case rdf.KindIRI:
 		dst = append(dst, "<uri>"...)
-		dst, err = appendXMLEscaped(dst, string(t), false)
+		dst, err = appendXMLEscaped(dst, t.Text, false)
 		dst = append(dst, "</uri>"...)
-	case rdf.BlankNode:
+	case rdf.KindBlank:
 		dst = append(dst, "<bnode>"...)
-		dst, err = appendXMLEscaped(dst, string(t), false)
+		dst, err = appendXMLEscaped(dst, t.Text, false)
 		dst = append(dst, "</bnode>"...)
-	case rdf.Literal:
+	case rdf.KindLiteral:
 		switch {
 		case t.Lang != "":
 			dst = append(dst, `<literal xml:lang="`...)
@@ -95,7 +95,7 @@ func appendXMLTerm(dst []byte, t rdf.Term) ([]byte, error) {
 		if err != nil {
 			return dst, err
 		}
-		dst, err = appendXMLEscaped(dst, t.Lexical, false)
+		dst, err = appendXMLEscaped(dst, t.Text, false)
 		dst = append(dst, "</literal>"...)
 	}
 	return dst, err
@@ -108,7 +108,7 @@ func appendXMLTerm(dst []byte, t rdf.Term) ([]byte, error) {
 // feed are escaped too, because a parser turns raw ones into spaces
 // (XML 1.0 §3.3.3). A character outside Char (XML 1.0 §2.2) or text that is
 // not UTF-8 is an error.
-func appendXMLEscaped(dst []byte, s string, attr bool) ([]byte, error) {
+func appendXMLEscaped[T text](dst []byte, s T, attr bool) ([]byte, error) {
 	start := 0
 	for i := 0; i < len(s); {
 		c := s[i]
@@ -141,7 +141,7 @@ func appendXMLEscaped(dst []byte, s string, attr bool) ([]byte, error) {
 			start = i
 			continue
 		}
-		r, size := utf8.DecodeRuneInString(s[i:])
+		r, size := decodeRune(s[i:])
 		switch {
 		case r == utf8.RuneError && size == 1:
 			return dst, fmt.Errorf("invalid UTF-8 at byte %d", i)
