@@ -5,6 +5,7 @@ package catalog
 
 import (
 	"fmt"
+	"slices"
 
 	"veneer/catalog/rdf"
 )
@@ -120,10 +121,8 @@ type TemplatePart struct {
 // Columns lists the columns the template references, in order of first use.
 func (t Template) Columns() []string {
 	var cols []string
-	seen := map[string]bool{}
 	for _, p := range t.Parts {
-		if p.Column != "" && !seen[p.Column] {
-			seen[p.Column] = true
+		if p.Column != "" && !slices.Contains(cols, p.Column) {
 			cols = append(cols, p.Column)
 		}
 	}

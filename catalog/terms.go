@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"math"
 	"math/big"
+	"slices"
 	"strconv"
 	"strings"
 	"time"
@@ -77,18 +78,26 @@ func unIRISafe(s string) (string, bool) {
 }
 
 // AppendExpand appends the template filled in to dst: value appends the text
-// of the named column. With iri set, the values are IRI-safe encoded (R2RML
-// §7.3); scratch is room for a value before it is encoded, returned grown.
-func (t Template) AppendExpand(dst, scratch []byte, iri bool, value func(dst []byte, column string) []byte) ([]byte, []byte) {
+// of column k of Columns(). With iri set, the values are IRI-safe encoded
+// (R2RML §7.3); scratch is room for a value before it is encoded, returned
+// grown.
+func (t Template) AppendExpand(dst, scratch []byte, iri bool, value func(dst []byte, k int) []byte) ([]byte, []byte) {
+	var room [8]string
+	cols := room[:0] // Columns(), as they come
 	for _, p := range t.Parts {
-		switch {
-		case p.Column == "":
+		if p.Column == "" {
 			dst = append(dst, p.Text...)
-		case iri:
-			scratch = value(scratch[:0], p.Column)
+			continue
+		}
+		k := slices.Index(cols, p.Column)
+		if k < 0 {
+			k, cols = len(cols), append(cols, p.Column)
+		}
+		if iri {
+			scratch = value(scratch[:0], k)
 			dst = AppendIRISafe(dst, scratch)
-		default:
-			dst = value(dst, p.Column)
+		} else {
+			dst = value(dst, k)
 		}
 	}
 	return dst, scratch

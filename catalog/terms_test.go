@@ -60,7 +60,7 @@ func TestTemplateMatch(t *testing.T) {
 			t.Errorf("Match(%q) = %v, %v; want %v", c.iri, got, ok, c.want)
 			continue
 		}
-		back, _ := tmpl.AppendExpand(nil, nil, true, func(dst []byte, col string) []byte { return append(dst, got[col]...) })
+		back, _ := tmpl.AppendExpand(nil, nil, true, func(dst []byte, k int) []byte { return append(dst, got[tmpl.Columns()[k]]...) })
 		if string(back) != c.iri {
 			t.Errorf("Expand(Match(%q)) = %q", c.iri, back)
 		}

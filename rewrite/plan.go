@@ -61,6 +61,20 @@ type Builder struct {
 	// other union branches.
 	Cols  []int
 	Kinds []source.TypeKind
+	// ValidIRI says that every IRI the map builds is a valid absolute IRI
+	// as it stands: the map is an IRI template whose text starts with a
+	// scheme and passes Template.CheckIRI, and its values are IRI-safe
+	// encoded (R2RML §7.3), so the executor checks no IRI it builds.
+	ValidIRI bool
+}
+
+// newBuilder returns the Builder of m, whose columns are of the given kinds
+// (their positions are the caller's to add).
+func newBuilder(m catalog.TermMap, kinds []source.TypeKind) Builder {
+	parts := m.Template.Parts
+	valid := m.Kind == catalog.TemplateMap && m.TermType == rdf.KindIRI && len(parts) > 0 &&
+		parts[0].Column == "" && rdf.IsAbsoluteIRI(parts[0].Text) && m.Template.CheckIRI() == nil
+	return Builder{Map: m, Kinds: kinds, ValidIRI: valid}
 }
 
 // Check requires that the term Slot builds from the row equals the term Builder

@@ -228,6 +228,14 @@ func (q *query) closeRel(r *rel, mod modifiers) (*closed, bool) {
 	if len(r.branches) == 0 {
 		return nil, false // an empty relation has no statement; callers plan none
 	}
+	if mod.limit == 1 && mod.offset == 0 && (r.dedup || mod.distinct) {
+		// The first row is a first solution whether or not rows repeat: ASK
+		// and other one-row answers need no DISTINCT, which would make the
+		// database read every row before the first.
+		cp := *r
+		cp.dedup, mod.distinct = false, false
+		r = &cp
+	}
 	vars := r.vars
 	if mod.vars != nil {
 		vars = nil
@@ -270,7 +278,7 @@ func (q *query) closeRel(r *rel, mod modifiers) (*closed, bool) {
 				if !ok {
 					a = alloc{start: len(c.types)}
 					allocs[key] = a
-					bl := Builder{Map: o.m, Kinds: kindsOf(types)}
+					bl := newBuilder(o.m, kindsOf(types))
 					for i := range exprs {
 						bl.Cols = append(bl.Cols, len(c.types))
 						c.types = append(c.types, types[i])
@@ -291,7 +299,7 @@ func (q *query) closeRel(r *rel, mod modifiers) (*closed, bool) {
 				continue // the variable is projected away; the check still filters rows
 			}
 			exprs, types := carriers(ch.occ)
-			bl := Builder{Map: ch.occ.m, Kinds: kindsOf(types)}
+			bl := newBuilder(ch.occ.m, kindsOf(types))
 			for i, e := range exprs {
 				bl.Cols = append(bl.Cols, len(c.types))
 				cells[bi][len(c.types)] = e

@@ -3,6 +3,7 @@ package rewrite_test
 import (
 	"context"
 	"path/filepath"
+	"strings"
 	"testing"
 
 	"veneer/catalog/source"
@@ -62,6 +63,42 @@ PREFIX rdfs: <http://www.w3.org/2000/01/rdf-schema#>
 		}
 		if got := countTables(scan.Stmt); got != c.tables {
 			t.Errorf("%s: %d table references, hand-written SQL has %d (%s)\n%s", c.name, got, c.tables, c.handWritten, scan.SQL)
+		}
+	}
+}
+
+func TestOneRowNeedsNoDistinct(t *testing.T) {
+	// The rows of an R2RML view may repeat (it has no key), so its solutions
+	// need DISTINCT, and a union over it a set UNION; but one row is a first
+	// solution all the same, so LIMIT 1 and ASK need neither, and the
+	// database can stop at the first row (SPARQL 1.1 §15.4, §15.5: DISTINCT
+	// and LIMIT; a first row of the solutions is a first row of the rows).
+	d, err := demo.OpenSQLite(context.Background(), filepath.Join(t.TempDir(), "demo.db"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer d.Source.Close()
+	pl := rewrite.NewPlanner(d.Catalog, d.Columns, source.SQLite)
+	const p = "PREFIX wf: <https://vocab.veneer.example/windfarm#>\n"
+	for _, c := range []struct {
+		query string
+		set   bool // DISTINCT or a set UNION in the SQL
+	}{
+		{p + "SELECT ?w WHERE { ?w a wf:OpenWorkOrder }", true},
+		{p + "SELECT ?w WHERE { ?w a wf:OpenWorkOrder } LIMIT 1", false},
+		{p + "SELECT ?w WHERE { ?w a wf:OpenWorkOrder } LIMIT 1 OFFSET 1", true},
+		{p + "ASK { ?w a wf:OpenWorkOrder }", false},
+		{p + "SELECT ?w ?c WHERE { ?w a ?c }", true},
+		{p + "ASK { ?w a ?c }", false},
+	} {
+		plan, err := pl.Compile(c.query)
+		if err != nil {
+			t.Fatal(err)
+		}
+		text := rewrite.Explain(plan)
+		set := strings.Contains(text, "DISTINCT") || strings.Contains(strings.ReplaceAll(text, "UNION ALL", ""), "UNION")
+		if set != c.set {
+			t.Errorf("%s: DISTINCT or set UNION %v, want %v\n%s", c.query, set, c.set, text)
 		}
 	}
 }

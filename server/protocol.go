@@ -87,7 +87,7 @@ func (s *Server) readOperation(w http.ResponseWriter, r *http.Request, params ur
 			if err != nil {
 				return nil, err
 			}
-			form, err := url.ParseQuery(body)
+			form, err := parseForm(body)
 			if err != nil {
 				return nil, badRequest("the form body does not parse: %v", err)
 			}

@@ -177,7 +177,10 @@ func (s *Server) ready(w http.ResponseWriter, r *http.Request) error {
 // nothing about the data.
 func (s *Server) sparql(w http.ResponseWriter, r *http.Request) error {
 	endpoint := s.endpointURL(r)
-	params := r.URL.Query()
+	params, err := urlParams(r)
+	if err != nil {
+		return err
+	}
 	if (r.Method == http.MethodGet || r.Method == http.MethodHead) && !isQueryRequest(params) {
 		return s.describe(w, r, endpoint)
 	}
@@ -306,7 +309,11 @@ func (s *Server) explain(w http.ResponseWriter, r *http.Request) error {
 	if err := s.auth.check(r); err != nil {
 		return err
 	}
-	op, err := s.readOperation(w, r, r.URL.Query(), s.endpointURL(r))
+	params, err := urlParams(r)
+	if err != nil {
+		return err
+	}
+	op, err := s.readOperation(w, r, params, s.endpointURL(r))
 	if err != nil {
 		return err
 	}

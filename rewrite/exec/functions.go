@@ -78,11 +78,11 @@ func init() {
 		"CEIL":  {1, 1, roundFn(roundCeil)},
 		"FLOOR": {1, 1, roundFn(roundFloor)},
 		"RAND": {0, 0, func(r *run, _ []rdf.Term) (rdf.Term, error) {
-			return number{kind: kindDouble, f: r.rand.Float64()}.literal(), nil
+			return number{kind: kindDouble, f: r.random()}.literal(), nil
 		}},
 
 		// §17.4.5: dates and times.
-		"NOW":      {0, 0, func(r *run, _ []rdf.Term) (rdf.Term, error) { return r.now, nil }},
+		"NOW":      {0, 0, func(r *run, _ []rdf.Term) (rdf.Term, error) { return r.now(), nil }},
 		"YEAR":     {1, 1, dateTimeField("YEAR")},
 		"MONTH":    {1, 1, dateTimeField("MONTH")},
 		"DAY":      {1, 1, dateTimeField("DAY")},

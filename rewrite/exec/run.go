@@ -59,8 +59,9 @@ type run struct {
 	planner patternPlanner
 	limit   int
 	base    *url.URL
-	now     rdf.Literal
-	rand    *rand.Rand
+	started time.Time   // NOW() and RAND()'s seed
+	nowTerm rdf.Literal // NOW(), once asked for
+	rand    *rand.Rand  // once asked for
 
 	blanks int64 // labels handed out so far
 	// BNODE(str) scope: the labels given to strings while one solution is
@@ -105,10 +106,26 @@ func newRun(ctx context.Context, src source.Source, pp patternPlanner, o Options
 	if now.IsZero() {
 		now = time.Now()
 	}
-	r.now = nowLiteral(now)
-	seed := uint64(now.UnixNano())
-	r.rand = rand.New(rand.NewPCG(seed, seed>>32|1))
+	r.started = now
 	return r, nil
+}
+
+// now is what NOW() returns throughout the run: the time it started (§17.4.5.1).
+func (r *run) now() rdf.Literal {
+	if r.nowTerm == (rdf.Literal{}) {
+		r.nowTerm = nowLiteral(r.started)
+	}
+	return r.nowTerm
+}
+
+// random returns RAND()'s next number, from a generator seeded with the
+// run's start the first time it is asked for.
+func (r *run) random() float64 {
+	if r.rand == nil {
+		seed := uint64(r.started.UnixNano())
+		r.rand = rand.New(rand.NewPCG(seed, seed>>32|1))
+	}
+	return r.rand.Float64()
 }
 
 // freshBlank returns a blank node no other call returns in this run. Labels

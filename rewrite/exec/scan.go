@@ -2,7 +2,6 @@ package exec
 
 import (
 	"fmt"
-	"slices"
 
 	"veneer/catalog"
 	"veneer/catalog/rdf"
@@ -222,24 +221,17 @@ func (r *rowReader) appendLexical(dst []byte, i int, kind source.TypeKind) []byt
 // buffers it needs between rows.
 type termBuilder struct {
 	b        rewrite.Builder
-	names    []string
+	columns  int     // of a template
 	datatype rdf.IRI // of a natural literal: by the column's kind
-	// validIRIs says the template always yields a valid absolute IRI: its text
-	// starts with a scheme and was checked at load (Template.CheckIRI), and the
-	// values are IRI-safe encoded, so no per-row check is needed.
-	validIRIs bool
-	buf       []byte // a term's text, for build
-	scratch   []byte // a template value before its encoding, a blank label
+	buf      []byte  // a term's text, for build
+	scratch  []byte  // a template value before its encoding, a blank label
 }
 
 func newTermBuilder(b rewrite.Builder) *termBuilder {
 	tb := &termBuilder{b: b}
 	switch m := b.Map; m.Kind {
 	case catalog.TemplateMap:
-		tb.names = m.Template.Columns()
-		parts := m.Template.Parts
-		tb.validIRIs = m.TermType == rdf.KindIRI && len(parts) > 0 && parts[0].Column == "" &&
-			rdf.IsAbsoluteIRI(parts[0].Text) && m.Template.CheckIRI() == nil
+		tb.columns = len(m.Template.Columns())
 	case catalog.Column:
 		if len(b.Kinds) == 1 {
 			if tb.datatype = catalog.NaturalDatatype(b.Kinds[0]); tb.datatype == "" {
@@ -299,11 +291,10 @@ func (tb *termBuilder) view(r *rowReader, buf []byte) (rdf.View, []byte, error) 
 			return rdf.View{Kind: rdf.KindLiteral, Text: buf[start:len(buf):len(buf)], Datatype: tb.datatype}, buf, nil
 		}
 	case catalog.TemplateMap:
-		if len(b.Cols) != len(tb.names) || len(b.Kinds) != len(tb.names) {
+		if len(b.Cols) != tb.columns || len(b.Kinds) != tb.columns {
 			return rdf.View{}, buf, nil
 		}
-		buf, tb.scratch = m.Template.AppendExpand(buf, tb.scratch, m.TermType == rdf.KindIRI, func(dst []byte, column string) []byte {
-			k := slices.Index(tb.names, column)
+		buf, tb.scratch = m.Template.AppendExpand(buf, tb.scratch, m.TermType == rdf.KindIRI, func(dst []byte, k int) []byte {
 			return r.appendLexical(dst, b.Cols[k], b.Kinds[k])
 		})
 	default:
@@ -312,7 +303,7 @@ func (tb *termBuilder) view(r *rowReader, buf []byte) (rdf.View, []byte, error) 
 	text := buf[start:len(buf):len(buf)]
 	switch m.TermType {
 	case rdf.KindIRI:
-		if !tb.validIRIs {
+		if !b.ValidIRI {
 			iri, err := m.MakeIRI(string(text))
 			if err != nil {
 				return rdf.View{}, buf[:start], err
