@@ -17,7 +17,10 @@ type Select struct {
 	GroupBy  []Expr
 	Having   Expr
 	OrderBy  []Order
-	// Limit and Offset are bound as parameters; nil means none.
+	// Limit and Offset are bound as parameters, but for the first row
+	// alone (a Limit of 1 and no Offset), which the statement's text says;
+	// nil means none. PostgreSQL plans a statement with a bound LIMIT anew
+	// each time it runs, and existence probes (ASK) are frequent and cheap.
 	Limit, Offset *int64
 }
 

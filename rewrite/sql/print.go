@@ -149,6 +149,8 @@ func (p *printer) tail(order []Order, limit, offset *int64) {
 		}
 	}
 	switch {
+	case limit != nil && *limit == 1 && offset == nil:
+		p.w(" LIMIT 1") // see Select.Limit
 	case limit != nil:
 		p.w(" LIMIT ")
 		p.param(*limit)
