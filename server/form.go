@@ -57,46 +57,42 @@ func parseForm(text string) (url.Values, error) {
 // unescapeForm decodes one name or value of form text, which starts at
 // byte at of the whole text.
 func unescapeForm(s string, at int) (string, error) {
-	start := 0
-	var out []byte
-	for i := 0; i < len(s); i++ {
-		c := s[i]
-		if c != '%' && c != '+' {
-			continue
-		}
-		if out == nil {
-			out = make([]byte, 0, len(s))
-		}
-		out = append(out, s[start:i]...)
-		if c == '+' {
-			out = append(out, ' ')
-			start = i + 1
-			continue
-		}
-		if i+2 >= len(s) || !isHex(s[i+1]) || !isHex(s[i+2]) {
-			end := min(i+3, len(s))
-			return "", fmt.Errorf("%q at byte %d is not a %%-escape of two hex digits", s[i:end], at+i+1)
-		}
-		out = append(out, unhex(s[i+1])<<4|unhex(s[i+2]))
-		i += 2
-		start = i + 1
-	}
-	if out == nil {
+	i := strings.IndexAny(s, "%+")
+	if i < 0 {
 		return s, nil
 	}
-	return string(append(out, s[start:]...)), nil
-}
-
-func isHex(c byte) bool {
-	return '0' <= c && c <= '9' || 'a' <= c && c <= 'f' || 'A' <= c && c <= 'F'
-}
-
-func unhex(c byte) byte {
-	switch {
-	case c <= '9':
-		return c - '0'
-	case c <= 'F':
-		return c - 'A' + 10
+	out := append(make([]byte, 0, len(s)), s[:i]...)
+	for ; i < len(s); i++ {
+		switch c := s[i]; c {
+		case '+':
+			out = append(out, ' ')
+		case '%':
+			if i+2 >= len(s) || hexValue[s[i+1]]|hexValue[s[i+2]] > 15 {
+				end := min(i+3, len(s))
+				return "", fmt.Errorf("%q at byte %d is not a %%-escape of two hex digits", s[i:end], at+i+1)
+			}
+			out = append(out, hexValue[s[i+1]]<<4|hexValue[s[i+2]])
+			i += 2
+		default:
+			out = append(out, c)
+		}
 	}
-	return c - 'a' + 10
+	return string(out), nil
 }
+
+// hexValue is the value of each hexadecimal digit, and 0xff for other bytes.
+var hexValue = func() (t [256]byte) {
+	for c := range t {
+		switch {
+		case '0' <= c && c <= '9':
+			t[c] = byte(c - '0')
+		case 'a' <= c && c <= 'f':
+			t[c] = byte(c - 'a' + 10)
+		case 'A' <= c && c <= 'F':
+			t[c] = byte(c - 'A' + 10)
+		default:
+			t[c] = 0xff
+		}
+	}
+	return t
+}()

@@ -7,7 +7,6 @@ import (
 	"strconv"
 	"strings"
 
-	"veneer/catalog/rdf"
 	"veneer/server/results"
 )
 
@@ -66,14 +65,8 @@ func (s *Server) writeAnswer(w http.ResponseWriter, a *Answer, f results.Format)
 			return 0, err
 		}
 		cur := a.Solutions
-		row := func(keep bool) []rdf.View {
-			if keep {
-				return rdf.CloneViews(cur.Views())
-			}
-			return cur.Views()
-		}
 		begin := func() error { return sw.Begin(cur.Vars()) }
-		n, err := stream(cur, row, begin, sw.Views, sw.End, max, out)
+		n, err := stream(cur, cur.Views, begin, sw.Views, sw.End, max, out)
 		return n, s.rowLimit(err, max, "solutions")
 	case results.Graph:
 		gw, err := results.NewGraphWriter(f, out, a.Prefixes)
@@ -81,8 +74,7 @@ func (s *Server) writeAnswer(w http.ResponseWriter, a *Answer, f results.Format)
 			return 0, err
 		}
 		cur := a.Graph
-		row := func(bool) rdf.Triple { return cur.Triple() }
-		n, err := stream(cur, row, gw.Begin, gw.Triple, gw.End, max, out)
+		n, err := stream(cur, cur.Triple, gw.Begin, gw.Triple, gw.End, max, out)
 		return n, s.rowLimit(err, max, "triples")
 	}
 	return 0, fmt.Errorf("server: answer of unknown kind %v", a.Kind)
@@ -148,56 +140,38 @@ func (s *Server) rowLimit(err error, max int64, what string) error {
 	return tooLarge("the answer has more than %d %s, the most this endpoint returns; narrow the query or add a LIMIT", max, what)
 }
 
-// stream copies the rows of a cursor to a result writer (begin, put, end),
-// holding the first holdRows rows back before it begins (see holdRows); row
-// returns the current row, a copy that outlives the cursor's next step when
-// keep is set. More than max rows (when max > 0) is errRowLimit, and any
-// failure leaves the document unfinished. An answer whole within the held
-// rows leaves body as one write; a longer one makes body stream.
+// stream copies the rows of a cursor to a result writer (begin, put, end).
+// What the writer writes stays in body until holdRows rows are in it, so a
+// failure, or an answer over max rows (when max > 0, errRowLimit), within
+// them leaves nothing sent, and any later failure leaves the document
+// unfinished. An answer whole within the held rows leaves body as one write;
+// a longer one makes body stream.
 func stream[T any](cur interface {
 	Next() bool
 	Err() error
-}, row func(keep bool) T, begin func() error, put func(T) error, end func() error, max int64, body *wholeOrStream) (int64, error) {
-	var held []T
-	for len(held) < holdRows && cur.Next() {
-		if max > 0 && int64(len(held)) >= max {
-			return 0, errRowLimit
-		}
-		held = append(held, row(true))
-	}
-	if err := cur.Err(); err != nil {
-		return 0, err
-	}
+}, row func() T, begin func() error, put func(T) error, end func() error, max int64, body *wholeOrStream) (int64, error) {
 	if err := begin(); err != nil {
 		return 0, err
 	}
 	var n int64
-	for _, r := range held {
-		if err := put(r); err != nil {
-			return n, err
-		}
-		n++
-	}
-	if len(held) < holdRows {
-		if err := end(); err != nil {
-			return n, err
-		}
-		return n, body.whole()
-	}
-	if err := body.stream(); err != nil {
-		return n, err
-	}
 	for cur.Next() {
 		if max > 0 && n >= max {
 			return n, errRowLimit
 		}
-		if err := put(row(false)); err != nil {
+		if err := put(row()); err != nil {
 			return n, err
 		}
-		n++
+		if n++; n == holdRows {
+			if err := body.stream(); err != nil {
+				return n, err
+			}
+		}
 	}
 	if err := cur.Err(); err != nil {
 		return n, err
 	}
-	return n, end()
+	if err := end(); err != nil {
+		return n, err
+	}
+	return n, body.whole()
 }

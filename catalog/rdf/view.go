@@ -59,21 +59,3 @@ func (v View) Term() Term {
 	}
 	return nil
 }
-
-// CloneViews returns a copy of row whose text lives in one buffer of its
-// own, for a caller that keeps the row past its maker's next reuse.
-func CloneViews(row []View) []View {
-	n := 0
-	for _, v := range row {
-		n += len(v.Text)
-	}
-	buf := make([]byte, 0, n)
-	out := make([]View, len(row))
-	for i, v := range row {
-		start := len(buf)
-		buf = append(buf, v.Text...)
-		out[i] = v
-		out[i].Text = buf[start:len(buf):len(buf)]
-	}
-	return out
-}

@@ -3,8 +3,8 @@ package rdf
 import "testing"
 
 func TestViews(t *testing.T) {
-	// Every kind of term survives the trip through a view and a clone, and
-	// the views made over one buffer stay valid while it grows.
+	// Every kind of term survives the trip through a view, and the views
+	// made over one buffer stay valid while it grows.
 	terms := []Term{
 		IRI("https://data.veneer.example/windfarm/turbine/T-07"),
 		BlankNode("b12"),
@@ -14,12 +14,9 @@ func TestViews(t *testing.T) {
 		nil,
 	}
 	views := make([]View, len(terms))
-	buf := AppendViews(views, make([]byte, 0, 4), terms)
-	kept := CloneViews(views)
-	buf = append(buf[:0], "overwritten by the next row, as a cursor does.........................."...)
-	_ = buf
+	AppendViews(views, make([]byte, 0, 4), terms)
 	for i, want := range terms {
-		got := kept[i].Term()
+		got := views[i].Term()
 		if (got == nil) != (want == nil) || got != nil && !SameTerm(got, want) {
 			t.Errorf("term %d: %v through a view, want %v", i, got, want)
 		}
