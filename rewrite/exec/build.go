@@ -368,7 +368,7 @@ type distinctIter struct {
 	r    *run
 	in   iterator
 	seen map[string]struct{}
-	key  strings.Builder
+	key  []byte
 }
 
 func (d *distinctIter) next() ([]rdf.Term, error) {
@@ -378,16 +378,14 @@ func (d *distinctIter) next() ([]rdf.Term, error) {
 			return nil, err
 		}
 		d.r.residual++
-		d.key.Reset()
-		writeSolutionKey(&d.key, sol)
-		k := d.key.String()
-		if _, dup := d.seen[k]; dup {
+		d.key = appendSolutionKey(d.key[:0], sol)
+		if _, dup := d.seen[string(d.key)]; dup {
 			continue
 		}
 		if len(d.seen) >= d.r.limit {
 			return nil, d.r.tooLarge("DISTINCT")
 		}
-		d.seen[k] = struct{}{}
+		d.seen[string(d.key)] = struct{}{}
 		return sol, nil
 	}
 }
@@ -433,38 +431,36 @@ func (s *sliceIter) close() {
 	s.in.close()
 }
 
-// writeSolutionKey writes a key that two solutions share exactly when they bind
-// the same variables to the same terms.
-func writeSolutionKey(b *strings.Builder, sol []rdf.Term) {
+// appendSolutionKey appends a key that two solutions share exactly when they
+// bind the same variables to the same terms.
+func appendSolutionKey(dst []byte, sol []rdf.Term) []byte {
 	for _, t := range sol {
-		writeTermKey(b, t)
+		dst = appendTermKey(dst, t)
 	}
+	return dst
 }
 
-// writeTermKey writes a key that two terms share exactly when they are the
+// appendTermKey appends a key that two terms share exactly when they are the
 // same RDF term (language tags compare without case).
-func writeTermKey(b *strings.Builder, t rdf.Term) {
+func appendTermKey(dst []byte, t rdf.Term) []byte {
 	switch t := t.(type) {
 	case nil:
-		b.WriteByte('u')
+		return append(dst, 'u')
 	case rdf.IRI:
-		b.WriteByte('i')
-		writeKeyString(b, string(t))
+		return appendKeyString(append(dst, 'i'), string(t))
 	case rdf.BlankNode:
-		b.WriteByte('b')
-		writeKeyString(b, string(t))
+		return appendKeyString(append(dst, 'b'), string(t))
 	case rdf.Literal:
-		b.WriteByte('l')
-		writeKeyString(b, t.Lexical)
-		writeKeyString(b, string(t.Datatype))
-		writeKeyString(b, strings.ToLower(t.Lang))
+		dst = appendKeyString(append(dst, 'l'), t.Lexical)
+		dst = appendKeyString(dst, string(t.Datatype))
+		return appendKeyString(dst, strings.ToLower(t.Lang))
 	}
+	return dst
 }
 
-// writeKeyString writes s with its length in front, so that no two sequences
-// of strings give the same key.
-func writeKeyString(b *strings.Builder, s string) {
-	b.WriteString(strconv.Itoa(len(s)))
-	b.WriteByte(':')
-	b.WriteString(s)
+// appendKeyString appends s with its length in front, so that no two
+// sequences of strings give the same key.
+func appendKeyString(dst []byte, s string) []byte {
+	dst = strconv.AppendInt(dst, int64(len(s)), 10)
+	return append(append(dst, ':'), s...)
 }

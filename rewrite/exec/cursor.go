@@ -25,7 +25,6 @@ import (
 	"errors"
 	"fmt"
 	"slices"
-	"strings"
 	"time"
 
 	"veneer/catalog/rdf"
@@ -288,21 +287,17 @@ type tripleSource interface {
 type tripleSet struct {
 	limit int
 	seen  map[string]struct{}
-	key   strings.Builder
+	key   []byte
 }
 
 // fresh reports whether t has not been yielded before, and remembers it.
 func (s *tripleSet) fresh(t rdf.Triple) bool {
-	s.key.Reset()
-	writeTermKey(&s.key, t.S)
-	writeTermKey(&s.key, t.P)
-	writeTermKey(&s.key, t.O)
-	k := s.key.String()
-	if _, dup := s.seen[k]; dup {
+	s.key = appendTermKey(appendTermKey(appendTermKey(s.key[:0], t.S), t.P), t.O)
+	if _, dup := s.seen[string(s.key)]; dup {
 		return false
 	}
 	if len(s.seen) < s.limit {
-		s.seen[k] = struct{}{}
+		s.seen[string(s.key)] = struct{}{}
 	}
 	return true
 }
@@ -478,13 +473,12 @@ func (d *describeSource) enqueue(t rdf.Term) {
 	if t == nil || t.Kind() == rdf.KindLiteral {
 		return
 	}
-	var key strings.Builder
-	writeTermKey(&key, t)
-	if d.described[key.String()] {
+	key := termKey(t)
+	if d.described[key] {
 		return
 	}
 	if len(d.described) < d.r.limit {
-		d.described[key.String()] = true
+		d.described[key] = true
 	}
 	d.queue = append(d.queue, t)
 }

@@ -2,7 +2,6 @@ package exec
 
 import (
 	"fmt"
-	"strings"
 
 	"veneer/catalog/rdf"
 	"veneer/rewrite/algebra"
@@ -27,13 +26,13 @@ func (c *compiler) exists(e algebra.Exists) (evalFn, error) {
 		slots[i] = c.l.slot(v)
 	}
 	cache := map[string]bool{}
-	var key strings.Builder
+	var key []byte
 	return func(sol []rdf.Term) (rdf.Term, error) {
-		key.Reset()
+		key = key[:0]
 		for _, s := range slots {
-			writeTermKey(&key, sol[s])
+			key = appendTermKey(key, sol[s])
 		}
-		found, ok := cache[key.String()]
+		found, ok := cache[string(key)]
 		if !ok {
 			mu := map[algebra.Var]rdf.Term{}
 			for i, s := range slots {
@@ -48,7 +47,7 @@ func (c *compiler) exists(e algebra.Exists) (evalFn, error) {
 			if len(cache) >= existsCacheLimit {
 				clear(cache)
 			}
-			cache[key.String()] = found
+			cache[string(key)] = found
 		}
 		return boolTerm(found != e.Not), nil
 	}, nil

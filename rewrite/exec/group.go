@@ -68,7 +68,7 @@ type groupIter struct {
 	started bool
 	groups  []*groupState
 	byKey   map[string]*groupState
-	key     strings.Builder
+	key     []byte
 }
 
 type groupState struct {
@@ -127,22 +127,22 @@ func (g *groupIter) consume() error {
 		g.r.residual++
 		g.r.newScope()
 		keys := make([]rdf.Term, len(g.keys))
-		g.key.Reset()
+		g.key = g.key[:0]
 		for i, k := range g.keys {
 			t, err := k(sol)
 			if fatal(err) {
 				return err
 			}
 			keys[i] = t
-			writeTermKey(&g.key, t)
+			g.key = appendTermKey(g.key, t)
 		}
-		st, ok := g.byKey[g.key.String()]
+		st, ok := g.byKey[string(g.key)]
 		if !ok {
 			if len(g.groups) >= g.r.limit {
 				return g.r.tooLarge("GROUP BY")
 			}
 			st = g.newGroup(keys)
-			g.byKey[g.key.String()] = st
+			g.byKey[string(g.key)] = st
 			g.groups = append(g.groups, st)
 		}
 		for i, a := range g.aggs {
@@ -176,9 +176,7 @@ func (g *groupIter) close() {
 // solutionTerm stands for a whole solution in COUNT(*), so that COUNT(DISTINCT
 // *) can tell solutions apart: a literal whose lexical form is the solution's key.
 func solutionTerm(sol []rdf.Term) rdf.Term {
-	var b strings.Builder
-	writeSolutionKey(&b, sol)
-	return rdf.NewString(b.String())
+	return rdf.NewString(string(appendSolutionKey(nil, sol)))
 }
 
 // accumulator computes one aggregate over the values of a group, each value a
@@ -215,17 +213,16 @@ type distinctAcc struct {
 	inner accumulator
 	seen  map[string]bool
 	limit int
-	key   strings.Builder
+	key   []byte
 }
 
 func (d *distinctAcc) add(t rdf.Term, err error) error {
-	d.key.Reset()
 	if err != nil {
-		d.key.WriteByte('e')
+		d.key = append(d.key[:0], 'e')
 	} else {
-		writeTermKey(&d.key, t)
+		d.key = appendTermKey(d.key[:0], t)
 	}
-	k := d.key.String()
+	k := string(d.key)
 	if d.seen[k] {
 		return nil
 	}

@@ -1,7 +1,6 @@
 package exec
 
 import (
-	"strings"
 
 	"veneer/catalog/rdf"
 	"veneer/rewrite"
@@ -75,7 +74,7 @@ type joinIter struct {
 	keys  []int        // shared slots every right solution binds
 	index map[string][]int
 	all   []int // every row, for probes that cannot use the index
-	key   strings.Builder
+	key   []byte
 
 	out  [][]rdf.Term // results for the current left solution not yet yielded
 	done bool
@@ -158,7 +157,7 @@ func (j *joinIter) buildRight() error {
 	if len(j.keys) > 0 {
 		j.index = map[string][]int{}
 		for i, row := range j.rows {
-			k := j.keyOf(row)
+			k := string(j.keyOf(row))
 			j.index[k] = append(j.index[k], i)
 		}
 	}
@@ -166,12 +165,13 @@ func (j *joinIter) buildRight() error {
 }
 
 // keyOf is the index key of a solution that binds every key slot.
-func (j *joinIter) keyOf(sol []rdf.Term) string {
-	j.key.Reset()
+// The key is reused by the next call.
+func (j *joinIter) keyOf(sol []rdf.Term) []byte {
+	j.key = j.key[:0]
 	for _, s := range j.keys {
-		writeTermKey(&j.key, sol[s])
+		j.key = appendTermKey(j.key, sol[s])
 	}
-	return j.key.String()
+	return j.key
 }
 
 // candidates returns the right rows that may be compatible with sol.
@@ -184,7 +184,7 @@ func (j *joinIter) candidates(sol []rdf.Term) []int {
 			return j.all
 		}
 	}
-	return j.index[j.keyOf(sol)]
+	return j.index[string(j.keyOf(sol))]
 }
 
 // compatible reports whether two solutions agree on every variable both bind

@@ -2,7 +2,6 @@ package exec
 
 import (
 	"fmt"
-	"strings"
 
 	"veneer/catalog/rdf"
 	"veneer/rewrite"
@@ -181,12 +180,9 @@ func (e *pathEval) sequence(p algebra.PathSeq, from, to rdf.Term) ([]pair, error
 // cached is pairs, remembered per path and bound ends for the whole path's
 // evaluation (a sequence and a closure ask for the same steps again).
 func (e *pathEval) cached(p algebra.Path, from, to rdf.Term) ([]pair, error) {
-	var key strings.Builder
-	key.WriteString(algebra.PathString(p))
-	key.WriteByte(0)
-	writeTermKey(&key, from)
-	writeTermKey(&key, to)
-	if ps, ok := e.steps[key.String()]; ok {
+	key := append([]byte(algebra.PathString(p)), 0)
+	key = appendTermKey(appendTermKey(key, from), to)
+	if ps, ok := e.steps[string(key)]; ok {
 		return ps, nil
 	}
 	ps, err := e.pairs(p, from, to)
@@ -197,7 +193,7 @@ func (e *pathEval) cached(p algebra.Path, from, to rdf.Term) ([]pair, error) {
 	if e.held > e.r.limit {
 		return nil, e.r.tooLarge("a property path evaluated in-process")
 	}
-	e.steps[key.String()] = ps
+	e.steps[string(key)] = ps
 	return ps, nil
 }
 
@@ -401,8 +397,4 @@ func distinctPairs(ps []pair) []pair {
 	return out
 }
 
-func termKey(t rdf.Term) string {
-	var b strings.Builder
-	writeTermKey(&b, t)
-	return b.String()
-}
+func termKey(t rdf.Term) string { return string(appendTermKey(nil, t)) }

@@ -142,7 +142,7 @@ func (s *serviceIter) close() {
 // bindings.
 func (s *serviceIter) readLeft() error {
 	index := map[string]int{}
-	var kb strings.Builder
+	var kb []byte
 	held := 0
 	for {
 		sol, err := s.left.next()
@@ -151,12 +151,12 @@ func (s *serviceIter) readLeft() error {
 		}
 		key := make([]rdf.Term, len(s.shared))
 		blank := false
-		kb.Reset()
+		kb = kb[:0]
 		for i, slot := range s.shared {
 			key[i] = sol[slot]
 			_, isBlank := sol[slot].(rdf.BlankNode)
 			blank = blank || isBlank
-			writeTermKey(&kb, sol[slot])
+			kb = appendTermKey(kb, sol[slot])
 		}
 		if blank {
 			// A blank node of ours is no term of the remote dataset, and VALUES
@@ -166,10 +166,10 @@ func (s *serviceIter) readLeft() error {
 		if held++; held > s.r.limit {
 			return s.r.tooLarge("the left side of a SERVICE join")
 		}
-		k, seen := index[kb.String()]
+		k, seen := index[string(kb)]
 		if !seen {
 			k = len(s.keys)
-			index[kb.String()] = k
+			index[string(kb)] = k
 			s.keys = append(s.keys, key)
 			s.groups = append(s.groups, nil)
 		}

@@ -668,12 +668,12 @@ func distinctRows(rows []map[string]rdf.Term, vars []string) []map[string]rdf.Te
 	seen := map[string]bool{}
 	var out []map[string]rdf.Term
 	for _, r := range rows {
-		var b strings.Builder
+		var key []byte
 		for _, v := range vars {
-			writeTermKey(&b, r[v])
+			key = appendTermKey(key, r[v])
 		}
-		if !seen[b.String()] {
-			seen[b.String()] = true
+		if !seen[string(key)] {
+			seen[string(key)] = true
 			out = append(out, r)
 		}
 	}
