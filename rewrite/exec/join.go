@@ -1,7 +1,6 @@
 package exec
 
 import (
-
 	"veneer/catalog/rdf"
 	"veneer/rewrite"
 	"veneer/rewrite/algebra"
