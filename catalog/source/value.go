@@ -238,6 +238,26 @@ func parseOffset(s string) (int, error) {
 // depending on the protocol and, for SQLite, on what the row stores; a []byte
 // is already a copy that database/sql made for the scan.
 func normalize(k TypeKind, v any) (any, error) {
+	// The values that stay as they are go back in the interface they came
+	// in, which spares a large answer an allocation per value.
+	switch v.(type) {
+	case string:
+		if k == TypeString || k == TypeOther {
+			return v, nil
+		}
+	case int64:
+		if k == TypeInteger {
+			return v, nil
+		}
+	case float64:
+		if k == TypeFloat || k == TypeReal {
+			return v, nil
+		}
+	case time.Time:
+		if k == TypeTimestampTZ {
+			return v, nil
+		}
+	}
 	switch v := v.(type) {
 	case nil:
 		return nil, nil
