@@ -24,7 +24,7 @@ import (
 // benchPlanner probes a mapping against an empty SQLite database built from
 // schema and returns a planner writing PostgreSQL, the dialect the benchmark
 // targets are set on.
-func benchPlanner(b *testing.B, schema []string, mapping string) *rewrite.Planner {
+func benchPlanner(b testing.TB, schema []string, mapping string) *rewrite.Planner {
 	b.Helper()
 	path := filepath.Join(b.TempDir(), "bench.db")
 	db, err := sql.Open("sqlite", path)
@@ -157,7 +157,7 @@ var demoPatterns = []string{
 	"?tech wf:hiredOn ?hired",
 }
 
-func demoPlanner(b *testing.B) *rewrite.Planner {
+func demoPlanner(b testing.TB) *rewrite.Planner {
 	schema, err := demo.Schema("sqlite")
 	if err != nil {
 		b.Fatal(err)

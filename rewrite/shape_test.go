@@ -1,13 +1,9 @@
 package rewrite_test
 
 import (
-	"context"
-	"path/filepath"
 	"strings"
 	"testing"
 
-	"veneer/catalog/source"
-	"veneer/cmd/veneer/demo"
 	"veneer/rewrite"
 	"veneer/rewrite/sql"
 )
@@ -16,12 +12,7 @@ import (
 // planner's SQL reads exactly as many tables as the SQL a database engineer would
 // write for the same question (the hand-written SQL is given beside each case).
 func TestSQLShapes(t *testing.T) {
-	d, err := demo.OpenSQLite(context.Background(), filepath.Join(t.TempDir(), "demo.db"))
-	if err != nil {
-		t.Fatal(err)
-	}
-	defer d.Source.Close()
-	pl := rewrite.NewPlanner(d.Catalog, d.Columns, source.SQLite)
+	pl := demoPlanner(t)
 	const p = `PREFIX wf: <https://vocab.veneer.example/windfarm#>
 PREFIX rdfs: <http://www.w3.org/2000/01/rdf-schema#>
 `
@@ -73,12 +64,7 @@ func TestOneRowNeedsNoDistinct(t *testing.T) {
 	// solution all the same, so LIMIT 1 and ASK need neither, and the
 	// database can stop at the first row (SPARQL 1.1 §15.4, §15.5: DISTINCT
 	// and LIMIT; a first row of the solutions is a first row of the rows).
-	d, err := demo.OpenSQLite(context.Background(), filepath.Join(t.TempDir(), "demo.db"))
-	if err != nil {
-		t.Fatal(err)
-	}
-	defer d.Source.Close()
-	pl := rewrite.NewPlanner(d.Catalog, d.Columns, source.SQLite)
+	pl := demoPlanner(t)
 	const p = "PREFIX wf: <https://vocab.veneer.example/windfarm#>\n"
 	for _, c := range []struct {
 		query string

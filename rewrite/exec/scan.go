@@ -39,12 +39,26 @@ type scanIter struct {
 	checks []checkDecoder
 	scope  []int
 	rows   rowReader
+	buf    []byte // a term's text while decode makes it
 	done   bool
 }
 
 type slotDecoder struct {
 	slot     int
 	builders []*termBuilder
+}
+
+// view is the view of the slot's term in the current row, made by the first
+// builder whose columns are not NULL (the branches of a SQL UNION fill
+// different columns), and that builder; the zero View and nil when none is.
+func (d slotDecoder) view(r *rowReader, buf []byte) (rdf.View, *termBuilder, []byte, error) {
+	for _, tb := range d.builders {
+		v, grown, err := tb.view(r, buf)
+		if err != nil || v.Kind != 0 {
+			return v, tb, grown, err
+		}
+	}
+	return rdf.View{}, nil, buf, nil
 }
 
 type checkDecoder struct {
@@ -78,16 +92,9 @@ func (s *scanIter) nextViews(dst []rdf.View, buf []byte) (bool, []byte, error) {
 		return false, buf, err
 	}
 	for _, d := range s.slots {
-		for _, tb := range d.builders {
-			var v rdf.View
-			if v, buf, err = tb.view(&s.rows, buf); err != nil {
-				s.close()
-				return false, buf, s.r.fail(err)
-			}
-			if v.Kind != 0 {
-				dst[d.slot] = v
-				break
-			}
+		if dst[d.slot], _, buf, err = d.view(&s.rows, buf); err != nil {
+			s.close()
+			return false, buf, s.r.fail(err)
 		}
 	}
 	return true, buf, nil
@@ -128,16 +135,12 @@ func (s *scanIter) advance() (bool, error) {
 func (s *scanIter) decode() ([]rdf.Term, error) {
 	sol := make([]rdf.Term, s.l.width())
 	for _, d := range s.slots {
-		for _, tb := range d.builders {
-			t, err := tb.build(&s.rows)
-			if err != nil {
-				return nil, err
-			}
-			if t != nil {
-				sol[d.slot] = t
-				break
-			}
+		v, tb, buf, err := d.view(&s.rows, s.buf[:0])
+		if err != nil {
+			return nil, err
 		}
+		s.buf = buf
+		sol[d.slot] = tb.term(v)
 	}
 	for _, ch := range s.checks {
 		t, err := ch.builder.build(&s.rows)
@@ -245,18 +248,21 @@ func newTermBuilder(b rewrite.Builder) *termBuilder {
 // build builds the term the builder's term map yields from the current row,
 // or nil when a column it needs is NULL (R2RML §11: no term, so no triple).
 func (tb *termBuilder) build(r *rowReader) (rdf.Term, error) {
-	if m := tb.b.Map; m.Kind == catalog.Constant {
-		if tb.anyNull(r) {
-			return nil, nil
-		}
-		return m.Constant, nil
-	}
 	v, buf, err := tb.view(r, tb.buf[:0])
 	tb.buf = buf
-	if err != nil {
-		return nil, err
+	return tb.term(v), err
+}
+
+// term is the term of v, a view tb made: a constant map's own term, a copy
+// of v's otherwise, nil for the zero View (or a nil tb).
+func (tb *termBuilder) term(v rdf.View) rdf.Term {
+	switch {
+	case v.Kind == 0:
+		return nil
+	case tb.b.Map.Kind == catalog.Constant:
+		return tb.b.Map.Constant
 	}
-	return v.Term(), nil
+	return v.Term()
 }
 
 func (tb *termBuilder) anyNull(r *rowReader) bool {

@@ -245,12 +245,9 @@ func (w *selectWriter) Begin(vars []string) error {
 
 // Row implements SelectWriter.
 func (w *selectWriter) Row(sol []rdf.Term) error {
-	if len(sol) == len(w.vars) {
-		w.views = slices.Grow(w.views[:0], len(sol))[:len(sol)]
-		w.text = rdf.AppendViews(w.views, w.text[:0], sol)
-		return w.write("Row", w.views)
-	}
-	return w.write("Row", make([]rdf.View, len(sol)))
+	w.views = slices.Grow(w.views[:0], len(sol))[:len(sol)]
+	w.text = rdf.AppendViews(w.views, w.text[:0], sol)
+	return w.write("Row", w.views)
 }
 
 // Views implements SelectWriter.
