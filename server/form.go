@@ -61,23 +61,27 @@ func unescapeForm(s string, at int) (string, error) {
 	if i < 0 {
 		return s, nil
 	}
-	out := append(make([]byte, 0, len(s)), s[:i]...)
-	for ; i < len(s); i++ {
-		switch c := s[i]; c {
-		case '+':
-			out = append(out, ' ')
-		case '%':
+	var out strings.Builder
+	out.Grow(len(s))
+	for {
+		out.WriteString(s[:i])
+		n := i + 1 // the bytes read: the run and its escape
+		if s[i] == '+' {
+			out.WriteByte(' ')
+		} else {
 			if i+2 >= len(s) || hexValue[s[i+1]]|hexValue[s[i+2]] > 15 {
 				end := min(i+3, len(s))
 				return "", fmt.Errorf("%q at byte %d is not a %%-escape of two hex digits", s[i:end], at+i+1)
 			}
-			out = append(out, hexValue[s[i+1]]<<4|hexValue[s[i+2]])
-			i += 2
-		default:
-			out = append(out, c)
+			out.WriteByte(hexValue[s[i+1]]<<4 | hexValue[s[i+2]])
+			n += 2
+		}
+		s, at = s[n:], at+n
+		if i = strings.IndexAny(s, "%+"); i < 0 {
+			out.WriteString(s)
+			return out.String(), nil
 		}
 	}
-	return string(out), nil
 }
 
 // hexValue is the value of each hexadecimal digit, and 0xff for other bytes.

@@ -34,21 +34,23 @@ func newAdmission(l Limits, m *metrics) *admission {
 // (common practice, from no specification).
 const retryAfter = time.Second
 
-// acquire waits for a slot and returns the function that gives it back.
-func (a *admission) acquire(ctx context.Context) (release func(), err error) {
+// acquire waits for a slot; a nil error means the caller has one and must
+// give it back with release.
+func (a *admission) acquire(ctx context.Context) error {
 	if a.slots == nil {
 		a.m.inFlight.Inc()
-		return a.m.inFlight.Dec, nil
+		return nil
 	}
 	select {
 	case a.slots <- struct{}{}:
-		return a.running(), nil
+		a.m.inFlight.Inc()
+		return nil
 	default:
 	}
 	if a.queued.Add(1) > a.maxQueue {
 		a.queued.Add(-1)
 		a.m.rejected.WithLabelValues("queue_full").Inc()
-		return nil, &problem{status: http.StatusServiceUnavailable, retryAfter: retryAfter,
+		return &problem{status: http.StatusServiceUnavailable, retryAfter: retryAfter,
 			msg: fmt.Sprintf("the server is at its limit of %d running and %d waiting queries; try again shortly", cap(a.slots), a.maxQueue)}
 	}
 	a.m.queued.Inc()
@@ -64,21 +66,21 @@ func (a *admission) acquire(ctx context.Context) (release func(), err error) {
 	}
 	select {
 	case a.slots <- struct{}{}:
-		return a.running(), nil
+		a.m.inFlight.Inc()
+		return nil
 	case <-timeout:
 		a.m.rejected.WithLabelValues("queue_timeout").Inc()
-		return nil, &problem{status: http.StatusServiceUnavailable, retryAfter: retryAfter,
+		return &problem{status: http.StatusServiceUnavailable, retryAfter: retryAfter,
 			msg: fmt.Sprintf("the query waited %s for one of the %d query slots; try again shortly", a.wait, cap(a.slots))}
 	case <-ctx.Done():
-		return nil, &problem{status: statusCanceled, msg: "the request was canceled while it waited", err: ctx.Err()}
+		return &problem{status: statusCanceled, msg: "the request was canceled while it waited", err: ctx.Err()}
 	}
 }
 
-// running counts a query that got its slot and returns its release.
-func (a *admission) running() func() {
-	a.m.inFlight.Inc()
-	return func() {
-		a.m.inFlight.Dec()
+// release gives back the slot of a query that acquire admitted.
+func (a *admission) release() {
+	a.m.inFlight.Dec()
+	if a.slots != nil {
 		<-a.slots
 	}
 }

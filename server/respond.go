@@ -6,6 +6,7 @@ import (
 	"net/http"
 	"strconv"
 	"strings"
+	"sync"
 
 	"veneer/server/results"
 )
@@ -86,12 +87,25 @@ func (s *Server) writeAnswer(w http.ResponseWriter, a *Answer, f results.Format)
 type wholeOrStream struct {
 	w         http.ResponseWriter
 	buf       []byte
+	pool      *[]byte // where buf came from, nil before the first Write
 	streaming bool
 }
+
+// bodies recycles the buffers of wholeOrStream: most answers are small and
+// whole, and a fresh buffer for each would make the garbage collector run for
+// every few requests of a busy endpoint.
+var bodies = sync.Pool{New: func() any {
+	b := make([]byte, 0, 4<<10)
+	return &b
+}}
 
 func (b *wholeOrStream) Write(p []byte) (int, error) {
 	if b.streaming {
 		return b.w.Write(p)
+	}
+	if b.pool == nil {
+		b.pool = bodies.Get().(*[]byte)
+		b.buf = (*b.pool)[:0]
 	}
 	b.buf = append(b.buf, p...)
 	return len(p), nil
@@ -107,11 +121,15 @@ func (b *wholeOrStream) Flush() {
 // stream sends what is kept and passes the rest through.
 func (b *wholeOrStream) stream() error {
 	b.streaming = true
-	if len(b.buf) == 0 {
+	if b.pool == nil {
 		return nil
 	}
 	_, err := b.w.Write(b.buf)
-	b.buf = nil
+	if cap(b.buf) <= 64<<10 {
+		*b.pool = b.buf[:0]
+		bodies.Put(b.pool)
+	}
+	b.buf, b.pool = nil, nil
 	return err
 }
 

@@ -195,11 +195,10 @@ func (s *Server) sparql(w http.ResponseWriter, r *http.Request) error {
 	if err != nil {
 		return err
 	}
-	release, err := s.admission.acquire(r.Context())
-	if err != nil {
+	if err := s.admission.acquire(r.Context()); err != nil {
 		return err
 	}
-	defer release()
+	defer s.admission.release()
 	ctx, cancel := s.queryContext(r.Context(), op)
 	defer cancel()
 	start := time.Now()

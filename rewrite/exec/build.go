@@ -2,6 +2,7 @@ package exec
 
 import (
 	"fmt"
+	"slices"
 	"strconv"
 	"strings"
 
@@ -15,22 +16,37 @@ import (
 // nil where unbound. Every operator of one plan uses the same layout, so a
 // variable is looked up by name only once, when the plan is built.
 
-// layout gives each variable of a plan its slot.
+// layout gives each variable of a plan its slot. Most plans have a handful
+// of variables, which a scan of vars finds faster than a map, and without
+// making one for every run; index is made only for plans with many.
 type layout struct {
-	index map[algebra.Var]int
 	vars  []algebra.Var
+	index map[algebra.Var]int // nil while vars is short
 }
 
-func newLayout() *layout { return &layout{index: map[algebra.Var]int{}} }
+// layoutScan is the most variables a layout looks up by scanning.
+const layoutScan = 16
 
 // slot returns v's slot, giving it the next one when it has none yet.
 func (l *layout) slot(v algebra.Var) int {
-	if i, ok := l.index[v]; ok {
+	if l.index != nil {
+		if i, ok := l.index[v]; ok {
+			return i
+		}
+	} else if i := slices.Index(l.vars, v); i >= 0 {
 		return i
 	}
 	i := len(l.vars)
-	l.index[v] = i
 	l.vars = append(l.vars, v)
+	switch {
+	case l.index != nil:
+		l.index[v] = i
+	case len(l.vars) > layoutScan:
+		l.index = make(map[algebra.Var]int, 2*len(l.vars))
+		for j, w := range l.vars {
+			l.index[w] = j
+		}
+	}
 	return i
 }
 
@@ -54,8 +70,15 @@ type builder struct {
 }
 
 func newBuilder(r *run) *builder {
-	l := newLayout()
-	return &builder{r: r, l: l, c: &compiler{r: r, l: l}}
+	b := &struct {
+		builder
+		layout
+		compiler
+	}{}
+	b.layout.vars = make([]algebra.Var, 0, 8)
+	b.compiler = compiler{r: r, l: &b.layout}
+	b.builder = builder{r: r, l: &b.layout, c: &b.compiler}
+	return &b.builder
 }
 
 // node is a built operator: its iterator and the slots it may bind.

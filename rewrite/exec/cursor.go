@@ -120,14 +120,16 @@ func open(ctx context.Context, src source.Source, pp patternPlanner, p *rewrite.
 	c := &Cursor{r: r, form: p.Form, root: root.it}
 	switch p.Form {
 	case algebra.Select:
-		for _, v := range p.Vars {
-			c.vars = append(c.vars, string(v))
-			c.proj = append(c.proj, b.l.slot(v))
+		c.vars, c.proj = make([]string, len(p.Vars)), make([]int, len(p.Vars))
+		for i, v := range p.Vars {
+			c.vars[i], c.proj[i] = string(v), b.l.slot(v)
 		}
 		c.cur = make([]rdf.Term, len(p.Vars))
-		c.views = make([]rdf.View, len(p.Vars))
 		if c.direct, c.projected = directScan(root.it, c.proj); c.direct != nil {
-			c.slotViews = make([]rdf.View, b.l.width())
+			views := make([]rdf.View, len(p.Vars)+b.l.width()) // one allocation for both
+			c.views, c.slotViews = views[:len(p.Vars):len(p.Vars)], views[len(p.Vars):]
+		} else {
+			c.views = make([]rdf.View, len(p.Vars))
 		}
 	case algebra.Ask:
 		sol, err := c.root.next()

@@ -49,7 +49,7 @@ func compileText(t *testing.T, text string) (evalFn, *compiler) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	c := &compiler{r: r, l: newLayout()}
+	c := &compiler{r: r, l: &layout{}}
 	fn, err := c.expr(e)
 	if err != nil {
 		t.Fatalf("%s: %v", text, err)
@@ -539,7 +539,7 @@ func TestCompileErrors(t *testing.T) {
 		}
 		e := q.Root.(algebra.Project).Input.(algebra.Extend).Expr
 		r, _ := newRun(context.Background(), nil, nil, Options{})
-		_, err = (&compiler{r: r, l: newLayout()}).expr(e)
+		_, err = (&compiler{r: r, l: &layout{}}).expr(e)
 		if err == nil || KindOf(err) != BadQuery {
 			t.Errorf("%s: got %v, want a bad-query error", text, err)
 		}

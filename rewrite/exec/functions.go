@@ -172,10 +172,11 @@ func iriFn(r *run, a []rdf.Term) (rdf.Term, error) {
 			return rdf.IRI(t.Lexical), nil
 		}
 		ref, err := url.Parse(t.Lexical)
-		if err != nil || r.base == nil {
+		base := r.baseURL()
+		if err != nil || base == nil {
 			return nil, errExpr
 		}
-		return rdf.IRI(r.base.ResolveReference(ref).String()), nil
+		return rdf.IRI(base.ResolveReference(ref).String()), nil
 	}
 	return nil, errExpr
 }

@@ -58,7 +58,8 @@ type run struct {
 	src     source.Source
 	planner patternPlanner
 	limit   int
-	base    *url.URL
+	baseIRI string      // the base IRI, until baseURL parses it
+	base    *url.URL    // parsed by baseURL
 	started time.Time   // NOW() and RAND()'s seed
 	nowTerm rdf.Literal // NOW(), once asked for
 	rand    *rand.Rand  // once asked for
@@ -72,7 +73,7 @@ type run struct {
 
 	regexps map[string]*compiledRegexp
 
-	services       map[rdf.IRI]bool // the endpoints SERVICE may call
+	services       []string // the endpoints SERVICE may call
 	serviceTimeout time.Duration
 	serviceMax     int64
 
@@ -84,10 +85,7 @@ func newRun(ctx context.Context, src source.Source, pp patternPlanner, o Options
 	if r.limit <= 0 {
 		r.limit = DefaultMaxBuffered
 	}
-	r.services = map[rdf.IRI]bool{}
-	for _, iri := range o.ServiceAllow {
-		r.services[rdf.IRI(iri)] = true
-	}
+	r.services = o.ServiceAllow
 	r.serviceTimeout, r.serviceMax = o.ServiceTimeout, o.ServiceMaxBytes
 	if r.serviceTimeout <= 0 {
 		r.serviceTimeout = DefaultServiceTimeout
@@ -95,19 +93,27 @@ func newRun(ctx context.Context, src source.Source, pp patternPlanner, o Options
 	if r.serviceMax <= 0 {
 		r.serviceMax = DefaultServiceMaxBytes
 	}
-	if o.Base != "" {
-		b, err := url.Parse(o.Base)
-		if err != nil || !b.IsAbs() {
-			return nil, &Error{Kind: BadQuery, Err: fmt.Errorf("the base IRI %q is not an absolute IRI", o.Base)}
-		}
-		r.base = b
+	if o.Base != "" && !hasScheme(o.Base) {
+		return nil, &Error{Kind: BadQuery, Err: fmt.Errorf("the base IRI %q is not an absolute IRI", o.Base)}
 	}
+	r.baseIRI = o.Base
 	now := o.Now
 	if now.IsZero() {
 		now = time.Now()
 	}
 	r.started = now
 	return r, nil
+}
+
+// baseURL is the base IRI that IRI() resolves against, parsed the first time
+// it is asked for (most queries never ask); nil when there is none or it does
+// not parse.
+func (r *run) baseURL() *url.URL {
+	if r.baseIRI != "" {
+		r.base, _ = url.Parse(r.baseIRI)
+		r.baseIRI = ""
+	}
+	return r.base
 }
 
 // now is what NOW() returns throughout the run: the time it started (§17.4.5.1).

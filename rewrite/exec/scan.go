@@ -11,20 +11,30 @@ import (
 
 // scan builds the iterator of a Scan leaf.
 func (b *builder) scan(op *rewrite.Scan) (node, error) {
-	s := &scanIter{r: b.r, l: b.l, op: op}
+	s := &scanIter{r: b.r, l: b.l, op: op, slots: make([]slotDecoder, 0, len(op.Slots)), scope: make([]int, 0, len(op.Slots))}
+	n := 0
+	for _, slot := range op.Slots {
+		n += len(slot.Builders)
+	}
+	tbs := make([]termBuilder, 0, n+len(op.Checks)) // one allocation for all
+	ptrs := make([]*termBuilder, 0, n)
 	for _, slot := range op.Slots {
 		d := slotDecoder{slot: b.l.slot(slot.Var)}
-		for _, bl := range slot.Builders {
-			d.builders = append(d.builders, newTermBuilder(bl))
+		for i := range slot.Builders {
+			tbs = append(tbs, newTermBuilder(&slot.Builders[i]))
+			ptrs = append(ptrs, &tbs[len(tbs)-1])
 		}
+		d.builders, ptrs = ptrs[:len(ptrs):len(ptrs)], ptrs[len(ptrs):]
 		s.slots = append(s.slots, d)
 		s.scope = append(s.scope, d.slot)
 	}
-	for _, ch := range op.Checks {
+	for i := range op.Checks {
+		ch := &op.Checks[i]
 		if ch.Slot < 0 || ch.Slot >= len(s.slots) {
 			return node{}, fmt.Errorf("plan has a check on slot %d of a scan with %d slots", ch.Slot, len(s.slots))
 		}
-		s.checks = append(s.checks, checkDecoder{slot: s.slots[ch.Slot].slot, builder: newTermBuilder(ch.Builder)})
+		tbs = append(tbs, newTermBuilder(&ch.Builder))
+		s.checks = append(s.checks, checkDecoder{slot: s.slots[ch.Slot].slot, builder: &tbs[len(tbs)-1]})
 	}
 	return node{it: s, scope: s.scope}, nil
 }
@@ -179,8 +189,10 @@ type rowReader struct {
 func (r *rowReader) start(rows source.Rows) {
 	r.rows = rows
 	r.text, _ = rows.(source.TextRows)
-	for _, c := range rows.Columns() {
-		r.kinds = append(r.kinds, c.Kind)
+	cols := rows.Columns()
+	r.kinds = make([]source.TypeKind, len(cols))
+	for i, c := range cols {
+		r.kinds[i] = c.Kind
 	}
 }
 
@@ -223,15 +235,15 @@ func (r *rowReader) appendLexical(dst []byte, i int, kind source.TypeKind) []byt
 // termBuilder builds the term of one rewrite.Builder from rows; it keeps the
 // buffers it needs between rows.
 type termBuilder struct {
-	b        rewrite.Builder
-	columns  int     // of a template
-	datatype rdf.IRI // of a natural literal: by the column's kind
-	buf      []byte  // a term's text, for build
-	scratch  []byte  // a template value before its encoding, a blank label
+	b        *rewrite.Builder // the plan's, shared by every run of it
+	columns  int              // of a template
+	datatype rdf.IRI          // of a natural literal: by the column's kind
+	buf      []byte           // a term's text, for build
+	scratch  []byte           // a template value before its encoding, a blank label
 }
 
-func newTermBuilder(b rewrite.Builder) *termBuilder {
-	tb := &termBuilder{b: b}
+func newTermBuilder(b *rewrite.Builder) termBuilder {
+	tb := termBuilder{b: b}
 	switch m := b.Map; m.Kind {
 	case catalog.TemplateMap:
 		tb.columns = len(m.Template.Columns())

@@ -8,6 +8,7 @@ import (
 	"io"
 	"net/http"
 	"net/url"
+	"slices"
 	"strconv"
 	"strings"
 	"time"
@@ -53,7 +54,7 @@ var serviceClient = func() *http.Client {
 // service builds SERVICE joined with left (nil: alone, as if joined with the
 // single empty solution).
 func (b *builder) service(left rewrite.Op, op *rewrite.Service) (node, error) {
-	if !b.r.services[op.Endpoint] {
+	if !slices.Contains(b.r.services, string(op.Endpoint)) {
 		return node{}, &Error{Kind: BadQuery, Err: fmt.Errorf("SERVICE %s: veneer calls only the endpoints listed in its SERVICE allowlist (%s), and this one is not listed", op.Endpoint, serviceSetting)}
 	}
 	l := node{it: &valuesIter{l: b.l, rows: [][]rdf.Term{{}}}}

@@ -166,5 +166,6 @@ func WriteBoolean(f Format, w io.Writer, v bool) error {
 	if err := s.send(); err != nil {
 		return fmt.Errorf("results: writing %s boolean: %w", f.name, err)
 	}
+	s.release()
 	return nil
 }

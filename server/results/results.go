@@ -39,6 +39,7 @@ import (
 	"fmt"
 	"io"
 	"slices"
+	"sync"
 
 	"veneer/catalog/rdf"
 )
@@ -86,11 +87,21 @@ type sink struct {
 	w     io.Writer
 	flush func() error // nil when w cannot be flushed
 	buf   []byte
-	rows  int // rows (or triples) buffered since the last send
+	rows  int     // rows (or triples) buffered since the last send
+	pool  *[]byte // where buf goes back to the pool, once released
 }
 
+// buffers recycles the sinks' buffers: most answers are small, and a fresh
+// buffer for each would make the garbage collector run for every few
+// requests of a busy endpoint.
+var buffers = sync.Pool{New: func() any {
+	b := make([]byte, 0, startBytes)
+	return &b
+}}
+
 func newSink(w io.Writer) sink {
-	s := sink{w: w, buf: make([]byte, 0, startBytes)}
+	p := buffers.Get().(*[]byte)
+	s := sink{w: w, buf: (*p)[:0], pool: p}
 	switch f := w.(type) {
 	case interface{ Flush() error }:
 		s.flush = f.Flush
@@ -118,6 +129,16 @@ func (s *sink) send() error {
 		return s.flush()
 	}
 	return nil
+}
+
+// release gives the buffer back to the pool once the document is complete;
+// the sink must not be used after it.
+func (s *sink) release() {
+	if s.pool != nil && cap(s.buf) <= 4*flushBytes {
+		*s.pool = s.buf[:0]
+		buffers.Put(s.pool)
+	}
+	s.buf, s.pool = nil, nil
 }
 
 // rowDone counts a finished row and sends the buffer when a threshold is reached.
@@ -197,6 +218,7 @@ func (m *machine) finish(tail func([]byte) []byte) error {
 		return err
 	}
 	m.state = stateDone
+	m.release()
 	return nil
 }
 

@@ -8,6 +8,7 @@ package twin
 
 import (
 	"context"
+	"io"
 	"net/http"
 	"strings"
 	"time"
@@ -45,8 +46,15 @@ func Handler(src source.Source, queries []mix.Query, timeout time.Duration) http
 	})
 }
 
-func answer(ctx context.Context, w http.ResponseWriter, src source.Source, q mix.Query) error {
+// plain hides the ResponseWriter's Flush from the result writers, which
+// otherwise flush the head of a document as soon as it is written: a
+// hand-written handler leaves the buffering to net/http, which sends a small
+// answer in one write with its Content-Length.
+type plain struct{ io.Writer }
+
+func answer(ctx context.Context, rw http.ResponseWriter, src source.Source, q mix.Query) error {
 	t := q.Twin
+	w := plain{rw}
 	rows, err := src.Query(ctx, t.SQL, append([]any{t.Kinds}, t.Args...)...)
 	if err != nil {
 		return err
@@ -58,10 +66,10 @@ func answer(ctx context.Context, w http.ResponseWriter, src source.Source, q mix
 		if err := rows.Err(); err != nil {
 			return err
 		}
-		w.Header().Set("Content-Type", results.JSON.ContentType())
+		rw.Header().Set("Content-Type", results.JSON.ContentType())
 		return results.WriteBoolean(results.JSON, w, found)
 	case mix.Construct:
-		w.Header().Set("Content-Type", results.NTriples.ContentType())
+		rw.Header().Set("Content-Type", results.NTriples.ContentType())
 		gw := results.NewNTriples(w)
 		if err := gw.Begin(); err != nil {
 			return err
@@ -86,7 +94,7 @@ func answer(ctx context.Context, w http.ResponseWriter, src source.Source, q mix
 		}
 		return gw.End()
 	}
-	w.Header().Set("Content-Type", results.JSON.ContentType())
+	rw.Header().Set("Content-Type", results.JSON.ContentType())
 	sw := results.NewJSON(w)
 	if err := sw.Begin(t.Vars); err != nil {
 		return err
