@@ -2,6 +2,8 @@ package server
 
 import (
 	"github.com/prometheus/client_golang/prometheus"
+
+	"veneer/server/results"
 )
 
 // metrics are the server's own Prometheus metrics. Labels take values from
@@ -22,6 +24,25 @@ type metrics struct {
 	reloads        *prometheus.CounterVec
 	translation    prometheus.Histogram
 	planCache      *prometheus.CounterVec
+
+	// The children of the vectors above that every query touches, looked
+	// up once: by answer kind, and the plan cache's two results.
+	kinds             map[results.Kind]kindMetrics
+	planHit, planMiss prometheus.Counter
+}
+
+// kindMetrics are the metrics of the queries of one answer kind.
+type kindMetrics struct {
+	duration prometheus.Observer
+	rows     prometheus.Counter
+}
+
+// ofKind returns the metrics of answer kind k.
+func (m *metrics) ofKind(k results.Kind) kindMetrics {
+	if km, ok := m.kinds[k]; ok {
+		return km
+	}
+	return kindMetrics{m.queryDuration.WithLabelValues(k.String()), m.rows.WithLabelValues(k.String())}
 }
 
 // Histogram buckets from 1 ms to about 65 s, four to a decade and a bit:
@@ -96,6 +117,11 @@ func newMetrics(reg prometheus.Registerer) *metrics {
 			Help: "Plan cache lookups by result: hit (by the query text, or by its shape with the VALUES data bound in) or miss.",
 		}, []string{"result"}),
 	}
+	m.kinds = map[results.Kind]kindMetrics{}
+	for _, k := range []results.Kind{results.Solutions, results.Boolean, results.Graph} {
+		m.kinds[k] = kindMetrics{m.queryDuration.WithLabelValues(k.String()), m.rows.WithLabelValues(k.String())}
+	}
+	m.planHit, m.planMiss = m.planCache.WithLabelValues("hit"), m.planCache.WithLabelValues("miss")
 	reg.MustRegister(m.requests, m.duration, m.queryDuration, m.sqlDuration, m.rows, m.inFlight,
 		m.queued, m.rejected, m.timeouts, m.residual, m.streamFailures, m.rowLimit, m.reloads,
 		m.translation, m.planCache)

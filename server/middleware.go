@@ -111,9 +111,12 @@ func (w *recorder) committed() bool { return w.status != 0 }
 func (s *Server) observe(next http.Handler) http.Handler {
 	return http.HandlerFunc(func(w http.ResponseWriter, r *http.Request) {
 		start := time.Now()
-		info := &requestInfo{id: requestID(r)}
+		x := &struct { // one allocation for both
+			info requestInfo
+			rec  recorder
+		}{requestInfo{id: requestID(r)}, recorder{ResponseWriter: w}}
+		info, rec := &x.info, &x.rec
 		w.Header().Set(RequestIDHeader, info.id)
-		rec := &recorder{ResponseWriter: w}
 		r = r.WithContext(context.WithValue(r.Context(), infoKey{}, info))
 		aborted := false
 		defer func() {
@@ -162,7 +165,14 @@ func (s *Server) account(r *http.Request, info *requestInfo, rec *recorder, star
 	case aborted || status >= 500 && status != http.StatusServiceUnavailable:
 		level = slog.LevelWarn
 	}
-	s.log.LogAttrs(r.Context(), level, "request",
+	// The line is handed to the handler directly: Logger.LogAttrs would also
+	// look up the caller's program counter, which an access log never shows.
+	h := s.log.Handler()
+	if !h.Enabled(r.Context(), level) {
+		return
+	}
+	line := slog.NewRecord(time.Now(), level, "request", 0)
+	line.AddAttrs(
 		slog.String("request_id", info.id),
 		slog.String("method", r.Method),
 		slog.String("path", r.URL.Path),
@@ -173,6 +183,7 @@ func (s *Server) account(r *http.Request, info *requestInfo, rec *recorder, star
 		slog.Float64("duration_ms", float64(d.Microseconds())/1000),
 		slog.String("remote", r.RemoteAddr),
 	)
+	h.Handle(r.Context(), line)
 }
 
 // handlerFunc is the shape of veneer's route handlers: they write a

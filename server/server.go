@@ -215,18 +215,19 @@ func (s *Server) sparql(w http.ResponseWriter, r *http.Request) error {
 	n, err := s.writeAnswer(w, a, f)
 	a.Close()
 	d := time.Since(start)
-	s.metrics.queryDuration.WithLabelValues(a.Kind.String()).Observe(d.Seconds())
-	s.metrics.rows.WithLabelValues(a.Kind.String()).Add(float64(n))
+	km := s.metrics.ofKind(a.Kind)
+	km.duration.Observe(d.Seconds())
+	km.rows.Add(float64(n))
 	if a.Stats != nil {
 		st := a.Stats()
 		s.metrics.sqlDuration.Observe(st.SQLDuration.Seconds())
 		s.metrics.residual.Add(float64(st.ResidualEvaluations))
 		s.metrics.translation.Observe(st.Translation.Seconds())
-		result := "miss"
 		if st.PlanCached {
-			result = "hit"
+			s.metrics.planHit.Inc()
+		} else {
+			s.metrics.planMiss.Inc()
 		}
-		s.metrics.planCache.WithLabelValues(result).Inc()
 	}
 	if s.cfg.SlowQuery > 0 && d >= s.cfg.SlowQuery {
 		s.logSlow(r.Context(), op, a, d, n, err)

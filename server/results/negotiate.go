@@ -2,6 +2,7 @@ package results
 
 import (
 	"strings"
+	"sync/atomic"
 )
 
 // Negotiate picks the format for an answer of kind k from the value of the
@@ -25,6 +26,28 @@ import (
 // none that change their content), and type and subtype compare without
 // regard to case (RFC 9110 §8.3.1).
 func Negotiate(accept string, k Kind) (Format, bool) {
+	if n := lastNegotiated.Load(); n != nil && n.kind == k && n.accept == accept {
+		return n.f, n.ok
+	}
+	f, ok := negotiate(accept, k)
+	lastNegotiated.Store(&negotiated{accept: accept, kind: k, f: f, ok: ok})
+	return f, ok
+}
+
+// negotiated is the outcome of one negotiation.
+type negotiated struct {
+	accept string
+	kind   Kind
+	f      Format
+	ok     bool
+}
+
+// lastNegotiated remembers the latest negotiation: a busy endpoint's clients
+// mostly send one Accept header over and over, which then costs a comparison
+// instead of a parse.
+var lastNegotiated atomic.Pointer[negotiated]
+
+func negotiate(accept string, k Kind) (Format, bool) {
 	ranges := parseAccept(accept)
 	var (
 		best     Format

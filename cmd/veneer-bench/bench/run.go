@@ -170,8 +170,21 @@ func median[T int64 | float64 | time.Duration](xs []T) T {
 
 // side is one way of asking a query: its request and how to read the answer.
 type side struct {
-	url, accept string
-	parse       func([]byte) (*Answer, error)
+	url   string
+	parse func([]byte) (*Answer, error)
+	// req is the request, made once: the load generator should not spend
+	// on parsing a long URL again for each request what it then charges to
+	// the side asked. err is why there is none.
+	req *http.Request
+	err error
+}
+
+func newSide(url, accept string, parse func([]byte) (*Answer, error)) side {
+	s := side{url: url, parse: parse}
+	if s.req, s.err = http.NewRequest(http.MethodGet, url, nil); s.err == nil {
+		s.req.Header.Set("Accept", accept)
+	}
+	return s
 }
 
 func sides(cfg Config, q mix.Query) (veneer, twin side) {
@@ -179,8 +192,8 @@ func sides(cfg Config, q mix.Query) (veneer, twin side) {
 	if q.Form == mix.Construct {
 		accept, parse = results.NTriples.MediaType(), ParseNTriples
 	}
-	veneer = side{cfg.Veneer + "?query=" + url.QueryEscape(q.SPARQL), accept, parse}
-	twin = side{cfg.Twin + q.Name, accept, parse}
+	veneer = newSide(cfg.Veneer+"?query="+url.QueryEscape(q.SPARQL), accept, parse)
+	twin = newSide(cfg.Twin+q.Name, accept, parse)
 	return veneer, twin
 }
 
@@ -294,11 +307,11 @@ const maxBody = 1 << 30
 // fetch asks once and reads the whole answer; the duration runs from sending
 // the request to reading the last byte.
 func (c *client) fetch(ctx context.Context, s side) ([]byte, time.Duration, error) {
-	req, err := http.NewRequestWithContext(ctx, http.MethodGet, s.url, nil)
-	if err != nil {
-		return nil, 0, err
+	if s.err != nil {
+		return nil, 0, s.err
 	}
-	req.Header.Set("Accept", s.accept)
+	// A shallow copy: the transport changes neither the URL nor the header.
+	req := s.req.WithContext(ctx)
 	start := time.Now()
 	resp, err := c.http.Do(req)
 	if err != nil {
