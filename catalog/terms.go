@@ -1,6 +1,7 @@
 package catalog
 
 import (
+	"bytes"
 	"encoding/hex"
 	"fmt"
 	"math"
@@ -385,6 +386,49 @@ func canonicalDecimal(s string) string {
 	return strings.TrimSuffix(out, ".")
 }
 
+// appendTextDecimal appends the form canonicalDecimal gives the decimal
+// text "[+-]digits[.digits]", working on the digits alone; it reports false
+// for any other text.
+func appendTextDecimal(dst, text []byte) ([]byte, bool) {
+	neg := false
+	if len(text) > 0 && (text[0] == '-' || text[0] == '+') {
+		neg, text = text[0] == '-', text[1:]
+	}
+	whole, frac := text, text[len(text):]
+	if i := bytes.IndexByte(text, '.'); i >= 0 {
+		whole, frac = text[:i], text[i+1:]
+	}
+	if len(whole)+len(frac) == 0 || !allDigits(whole) || !allDigits(frac) {
+		return dst, false
+	}
+	whole = bytes.TrimLeft(whole, "0")
+	frac = bytes.TrimRight(frac, "0")
+	if len(whole) == 0 && len(frac) == 0 {
+		return append(dst, '0'), true // zero has no sign
+	}
+	if neg {
+		dst = append(dst, '-')
+	}
+	if len(whole) == 0 {
+		dst = append(dst, '0')
+	}
+	dst = append(dst, whole...)
+	if len(frac) > 0 {
+		dst = append(dst, '.')
+		dst = append(dst, frac...)
+	}
+	return dst, true
+}
+
+func allDigits(b []byte) bool {
+	for _, c := range b {
+		if c < '0' || c > '9' {
+			return false
+		}
+	}
+	return true
+}
+
 // CanonicalDouble writes f in the XSD canonical form for xsd:double: a mantissa
 // with one digit before the point and at least one after, and an exponent
 // ("1.5E2", "0.0E0", "INF", "NaN").
@@ -456,11 +500,15 @@ func AppendLexical(dst []byte, v any, kind source.TypeKind) []byte {
 // source handed out as text in the plain form of its kind (source.TextRows):
 // strings and integers are their own lexical form, and a timestamp
 // "YYYY-MM-DD HH:MM:SS[.fraction]" takes a T and loses the trailing zeros of
-// its fraction, as Lexical writes it. For other kinds it reports false.
+// its fraction, as Lexical writes it; a decimal "[-]digits[.digits]" loses
+// its leading and trailing zeros, and the point when no digit follows it, as
+// canonicalDecimal writes it. For other kinds it reports false.
 func AppendTextLexical(dst, text []byte, kind source.TypeKind) ([]byte, bool) {
 	switch kind {
 	case source.TypeString, source.TypeInteger:
 		return append(dst, text...), true
+	case source.TypeDecimal:
+		return appendTextDecimal(dst, text)
 	case source.TypeTimestamp:
 		const clock = len("2006-01-02 15:04:05")
 		if len(text) < clock {

@@ -117,6 +117,17 @@ func TestAppendTextLexical(t *testing.T) {
 		{"2009-10-10 12:12:22.123456789", source.TypeTimestamp, "2009-10-10T12:12:22.123456789", "XSD 1.1 dateTime canonical form"},
 		{"-7", source.TypeInteger, "-7", "XSD integer canonical form"},
 		{"Nacelle \"A\"", source.TypeString, "Nacelle \"A\"", "R2RML §10.2: strings map to themselves"},
+		// XML Schema 1.1 Part 2 §3.3.3.2 decimalCanonicalMap: no leading or
+		// trailing zeros, no point for an integer value, no sign for zero
+		// (from memory).
+		{"95.50", source.TypeDecimal, "95.5", "XSD 1.1 decimal canonical form"},
+		{"120", source.TypeDecimal, "120", "XSD 1.1 decimal canonical form"},
+		{"-0.50", source.TypeDecimal, "-0.5", "XSD 1.1 decimal canonical form"},
+		{"0.000", source.TypeDecimal, "0", "XSD 1.1 decimal canonical form"},
+		{"-0", source.TypeDecimal, "0", "XSD 1.1 decimal canonical form"},
+		{"007.10", source.TypeDecimal, "7.1", "XSD 1.1 decimal canonical form"},
+		{".5", source.TypeDecimal, "0.5", "XSD 1.1 decimal canonical form"},
+		{"+3.0", source.TypeDecimal, "3", "XSD 1.1 decimal canonical form"},
 	}
 	for _, c := range cases {
 		got, ok := AppendTextLexical([]byte("x"), []byte(c.text), c.kind)
@@ -132,7 +143,7 @@ func TestAppendTextLexical(t *testing.T) {
 			t.Errorf("Lexical(%#v) = %q, but the text gives %q", v, lex, c.want)
 		}
 	}
-	for _, kind := range []source.TypeKind{source.TypeBoolean, source.TypeDecimal, source.TypeFloat, source.TypeTimestampTZ} {
+	for _, kind := range []source.TypeKind{source.TypeBoolean, source.TypeFloat, source.TypeTimestampTZ} {
 		if got, ok := AppendTextLexical(nil, []byte("1"), kind); ok {
 			t.Errorf("AppendTextLexical for %v = %q, want no plain form", kind, got)
 		}
@@ -216,5 +227,34 @@ func TestIdentMatches(t *testing.T) {
 	}
 	if !(Ident{Name: "Name", Quoted: true}).Matches("Name") {
 		t.Error(`delimited "Name" should match column Name`)
+	}
+}
+
+// TestAppendTextDecimalAgainstRat checks the digit-only canonical decimal
+// against canonicalDecimal, which goes through math/big.Rat from Go's
+// standard library, over every decimal text of up to two digits each side of
+// the point with signs and zeros, and refuses what is not a decimal.
+func TestAppendTextDecimalAgainstRat(t *testing.T) {
+	parts := []string{"", "0", "00", "5", "05", "50", "12", "90"}
+	for _, sign := range []string{"", "-", "+"} {
+		for _, whole := range parts {
+			for _, frac := range parts {
+				for _, point := range []string{"", "."} {
+					text := sign + whole + point + frac
+					if point == "" && frac != "" || whole+frac == "" {
+						continue
+					}
+					got, ok := appendTextDecimal(nil, []byte(text))
+					if want := canonicalDecimal(text); !ok || string(got) != want {
+						t.Errorf("appendTextDecimal(%q) = %q, %v; canonicalDecimal gives %q", text, got, ok, want)
+					}
+				}
+			}
+		}
+	}
+	for _, bad := range []string{"", "-", ".", "1.2.3", "1e5", "NaN", "Infinity", " 1", "1,5"} {
+		if got, ok := appendTextDecimal(nil, []byte(bad)); ok {
+			t.Errorf("appendTextDecimal(%q) = %q, want a refusal", bad, got)
+		}
 	}
 }

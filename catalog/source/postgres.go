@@ -232,6 +232,8 @@ func plainText(k TypeKind, raw []byte) bool {
 	case k == TypeTimestamp:
 		_, ok := plainTimestamp(raw)
 		return ok
+	case k == TypeDecimal:
+		return isDecimal(raw)
 	}
 	return false
 }

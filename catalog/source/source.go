@@ -118,8 +118,9 @@ type Rows interface {
 // when the value is NULL (nil bytes) or its text is in the plain form of the
 // column's kind: any text for TypeString; canonical decimal digits for
 // TypeInteger (a '-' for negative numbers, no leading zero, at most 18
-// digits); for TypeTimestamp a valid "YYYY-MM-DD HH:MM:SS" with up to nine
-// digits of fraction. Otherwise it returns false, and only Values reads the
+// digits); for TypeDecimal decimal digits with an optional sign and point;
+// for TypeTimestamp a valid "YYYY-MM-DD HH:MM:SS" with up to nine digits of
+// fraction. Otherwise it returns false, and only Values reads the
 // value. The bytes are valid until Next.
 type TextRows interface {
 	Rows

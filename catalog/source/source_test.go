@@ -445,7 +445,7 @@ func TestPostgresText(t *testing.T) {
 		{"", true, nil},
 		{"2024-03-01 11:45:30.5", true, time.Date(2024, 3, 1, 11, 45, 30, 5e8, time.UTC)},
 		{"2024-03-01 11:45:30", true, time.Date(2024, 3, 1, 11, 45, 30, 0, time.UTC)},
-		{"", false, "1.50"},
+		{"1.50", true, "1.50"},
 		{"", false, true},
 		{"", false, time.Date(2024, 3, 1, 9, 45, 30, 0, time.UTC)},
 	}

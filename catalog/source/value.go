@@ -65,12 +65,22 @@ func isZeroDate(s string) bool { return strings.HasPrefix(s, "0000-00-00") }
 // isDecimal reports whether s is an xsd:decimal numeral (XSD 1.1 Part 2
 // §3.3.3, from memory): an optional sign, then digits with an optional fraction, or a
 // fraction alone.
-func isDecimal(s string) bool {
-	if s != "" && (s[0] == '+' || s[0] == '-') {
+func isDecimal[T ~string | ~[]byte](s T) bool {
+	if len(s) > 0 && (s[0] == '+' || s[0] == '-') {
 		s = s[1:]
 	}
-	intPart, frac, _ := strings.Cut(s, ".")
-	return (intPart != "" || frac != "") && allDigits(intPart) && allDigits(frac)
+	digits, point := 0, false
+	for i := 0; i < len(s); i++ {
+		switch c := s[i]; {
+		case '0' <= c && c <= '9':
+			digits++
+		case c == '.' && !point:
+			point = true
+		default:
+			return false
+		}
+	}
+	return digits > 0
 }
 
 func allDigits(s string) bool {
