@@ -57,29 +57,32 @@ func parseForm(text string) (url.Values, error) {
 // unescapeForm decodes one name or value of form text, which starts at
 // byte at of the whole text.
 func unescapeForm(s string, at int) (string, error) {
-	i := strings.IndexAny(s, "%+")
-	if i < 0 {
+	i := 0
+	for i < len(s) && s[i] != '%' && s[i] != '+' {
+		i++
+	}
+	if i == len(s) {
 		return s, nil
 	}
 	var out strings.Builder
 	out.Grow(len(s))
-	for {
-		out.WriteString(s[:i])
-		n := i + 1 // the bytes read: the run and its escape
+	for run := 0; ; {
+		out.WriteString(s[run:i])
+		if i == len(s) {
+			return out.String(), nil
+		}
 		if s[i] == '+' {
 			out.WriteByte(' ')
+			i++
 		} else {
 			if i+2 >= len(s) || hexValue[s[i+1]]|hexValue[s[i+2]] > 15 {
 				end := min(i+3, len(s))
 				return "", fmt.Errorf("%q at byte %d is not a %%-escape of two hex digits", s[i:end], at+i+1)
 			}
 			out.WriteByte(hexValue[s[i+1]]<<4 | hexValue[s[i+2]])
-			n += 2
+			i += 3
 		}
-		s, at = s[n:], at+n
-		if i = strings.IndexAny(s, "%+"); i < 0 {
-			out.WriteString(s)
-			return out.String(), nil
+		for run = i; i < len(s) && s[i] != '%' && s[i] != '+'; i++ {
 		}
 	}
 }
