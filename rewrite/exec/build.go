@@ -481,9 +481,27 @@ func appendTermKey(dst []byte, t rdf.Term) []byte {
 	return dst
 }
 
+// appendViewKey appends the key appendTermKey gives v.Term(), without
+// making the term.
+func appendViewKey(dst []byte, v rdf.View) []byte {
+	switch v.Kind {
+	case 0:
+		return append(dst, 'u')
+	case rdf.KindIRI:
+		return appendKeyString(append(dst, 'i'), v.Text)
+	case rdf.KindBlank:
+		return appendKeyString(append(dst, 'b'), v.Text)
+	case rdf.KindLiteral:
+		dst = appendKeyString(append(dst, 'l'), v.Text)
+		dst = appendKeyString(dst, string(v.Datatype))
+		return appendKeyString(dst, strings.ToLower(v.Lang))
+	}
+	return dst
+}
+
 // appendKeyString appends s with its length in front, so that no two
 // sequences of strings give the same key.
-func appendKeyString(dst []byte, s string) []byte {
+func appendKeyString[T ~string | ~[]byte](dst []byte, s T) []byte {
 	dst = strconv.AppendInt(dst, int64(len(s)), 10)
 	return append(append(dst, ':'), s...)
 }

@@ -57,14 +57,16 @@ type Cursor struct {
 	triple  rdf.Triple
 	answer  bool
 
-	// A SELECT whose plan is one scan without checks, perhaps projected, is
-	// streamed as views straight from the scan's rows (direct), by slot
+	// A SELECT whose plan is one scan without checks, perhaps joined with a
+	// VALUES block (lookup), perhaps projected, is streamed as views
+	// straight from the scan's rows (direct), by slot
 	// (slotViews) and then by result variable (views); cur is then made
 	// only when Solution is asked for. For any other plan views are made
 	// from cur when asked for. fresh says which of cur and views holds the
 	// current solution besides the one Next made.
 	direct    *scanIter
-	projected bool // direct's rows pass a Project: each is a residual evaluation
+	lookup    *valuesLookup // the VALUES block direct's rows join, if any
+	projected bool          // direct's rows pass a Project: each is a residual evaluation
 	slotViews []rdf.View
 	views     []rdf.View
 	buf       []byte
@@ -125,7 +127,7 @@ func open(ctx context.Context, src source.Source, pp patternPlanner, p *rewrite.
 			c.vars[i], c.proj[i] = string(v), b.l.slot(v)
 		}
 		c.cur = make([]rdf.Term, len(p.Vars))
-		if c.direct, c.projected = directScan(root.it, c.proj); c.direct != nil {
+		if c.direct, c.lookup, c.projected = directScan(r, root.it, c.proj, b.l.width()); c.direct != nil {
 			views := make([]rdf.View, len(p.Vars)+b.l.width()) // one allocation for both
 			c.views, c.slotViews = views[:len(p.Vars):len(p.Vars)], views[len(p.Vars):]
 		} else {
@@ -174,7 +176,12 @@ func (c *Cursor) Next() bool {
 		c.fresh = false
 		if c.direct != nil {
 			clear(c.slotViews)
-			if ok, c.buf, err = c.direct.nextViews(c.slotViews, c.buf[:0]); ok {
+			if c.lookup != nil {
+				ok, c.buf, err = c.lookup.next(c.direct, c.slotViews, c.buf)
+			} else {
+				ok, c.buf, err = c.direct.nextViews(c.slotViews, c.buf[:0])
+			}
+			if ok {
 				for i, s := range c.proj {
 					c.views[i] = c.slotViews[s]
 				}
@@ -228,21 +235,33 @@ func (c *Cursor) Views() []rdf.View {
 }
 
 // directScan finds the scan of a plan whose solutions can stream as views:
-// one scan without checks, alone or under a Project that keeps every result
-// variable (slots proj); projected says it is under one.
-func directScan(it iterator, proj []int) (s *scanIter, projected bool) {
+// one scan without checks, alone or joined with a VALUES block (lk, see
+// valuesLookup), either under a Project that keeps every result variable
+// (slots proj; projected says it is under one) or not. width is the
+// layout's.
+func directScan(r *run, it iterator, proj []int, width int) (s *scanIter, lk *valuesLookup, projected bool) {
 	if p, ok := it.(*projectIter); ok {
 		for _, slot := range proj {
 			if !slices.Contains(p.vars, slot) {
-				return nil, false
+				return nil, nil, false
 			}
 		}
 		it, projected = p.in, true
 	}
-	if s, ok := it.(*scanIter); ok && len(s.checks) == 0 {
-		return s, projected
+	if j, ok := it.(*joinIter); ok && j.kind == joinInner && j.filter == nil && len(j.shared) > 0 {
+		s, _ := j.left.(*scanIter)
+		v, _ := j.right.(*valuesIter)
+		if s != nil && len(s.checks) == 0 && v != nil {
+			if lk := newValuesLookup(r, v, j.shared, width); lk != nil {
+				return s, lk, projected
+			}
+		}
+		return nil, nil, false
 	}
-	return nil, false
+	if s, ok := it.(*scanIter); ok && len(s.checks) == 0 {
+		return s, nil, projected
+	}
+	return nil, nil, false
 }
 
 // Triple returns the current triple of CONSTRUCT or DESCRIBE.
