@@ -1,6 +1,8 @@
 package exec
 
 import (
+	"slices"
+
 	"veneer/catalog/rdf"
 	"veneer/rewrite"
 	"veneer/rewrite/algebra"
@@ -38,12 +40,8 @@ func (b *builder) join(left, right rewrite.Op, kind int, expr algebra.Expr) (nod
 		return node{}, err
 	}
 	it := &joinIter{r: b.r, kind: kind, left: l.it, right: r.it, rightScope: r.scope}
-	inRight := map[int]bool{}
-	for _, i := range r.scope {
-		inRight[i] = true
-	}
 	for _, i := range l.scope {
-		if inRight[i] {
+		if slices.Contains(r.scope, i) {
 			it.shared = append(it.shared, i)
 		}
 	}
