@@ -14,42 +14,49 @@ type planCache struct {
 	mu    sync.Mutex
 	max   int
 	order *list.List // front: most recently used
-	byKey map[string]*list.Element
+	byKey map[cacheKey]*list.Element
 }
 
 type cached struct {
-	key  string
+	key  cacheKey
 	plan *Plan
 }
 
 func newPlanCache(max int) *planCache {
-	return &planCache{max: max, order: list.New(), byKey: map[string]*list.Element{}}
+	return &planCache{max: max, order: list.New(), byKey: map[cacheKey]*list.Element{}}
 }
 
-// requestKey identifies everything a plan depends on besides the catalog.
-func requestKey(r Request) string {
+// cacheKey identifies everything a plan depends on besides the catalog: the
+// query text, and the rest of the request (its base IRI and dataset, and
+// whether the text is a shape). The text stays a field of its own, so that
+// a lookup does not copy a long query.
+type cacheKey struct {
+	context, text string
+}
+
+// requestKey is the key of a request's plan.
+func requestKey(r Request) cacheKey {
+	if r.Dataset == nil {
+		return cacheKey{context: r.Base, text: r.Text}
+	}
 	var b strings.Builder
 	b.WriteString(r.Base)
 	b.WriteByte(0)
-	if r.Dataset != nil {
-		for _, g := range r.Dataset.Default {
-			b.WriteString(string(g))
-			b.WriteByte(1)
-		}
-		b.WriteByte(0)
-		for _, g := range r.Dataset.Named {
-			b.WriteString(string(g))
-			b.WriteByte(1)
-		}
+	for _, g := range r.Dataset.Default {
+		b.WriteString(string(g))
+		b.WriteByte(1)
 	}
 	b.WriteByte(0)
-	b.WriteString(r.Text)
-	return b.String()
+	for _, g := range r.Dataset.Named {
+		b.WriteString(string(g))
+		b.WriteByte(1)
+	}
+	return cacheKey{context: b.String(), text: r.Text}
 }
 
 // get returns the plan kept under key, and whether the key is known (a shape
 // seen once is kept with no plan).
-func (c *planCache) get(key string) (*Plan, bool) {
+func (c *planCache) get(key cacheKey) (*Plan, bool) {
 	c.mu.Lock()
 	defer c.mu.Unlock()
 	e, ok := c.byKey[key]
@@ -61,7 +68,7 @@ func (c *planCache) get(key string) (*Plan, bool) {
 }
 
 // put keeps p under key, in place of what the key held.
-func (c *planCache) put(key string, p *Plan) {
+func (c *planCache) put(key cacheKey, p *Plan) {
 	c.mu.Lock()
 	defer c.mu.Unlock()
 	if e, ok := c.byKey[key]; ok {

@@ -103,7 +103,7 @@ func (p *Plan) bind(data [][][]rdf.Term) *Plan {
 // the request with the blocks' data cut out of the text, and for each block
 // which columns hold UNDEF and whether a row repeats (restrict and prefilter
 // plan by them).
-func shapeKey(r Request, ast *sparql.Query, data [][][]rdf.Term) string {
+func shapeKey(r Request, ast *sparql.Query, data [][][]rdf.Term) cacheKey {
 	var b strings.Builder
 	at := 0
 	for i, v := range ast.Data {
@@ -128,7 +128,9 @@ func shapeKey(r Request, ast *sparql.Query, data [][][]rdf.Term) string {
 	}
 	b.WriteString(r.Text[at:])
 	r.Text = b.String()
-	return "shape\x00" + requestKey(r)
+	k := requestKey(r)
+	k.context = "shape\x00" + k.context
+	return k
 }
 
 // blockData translates the data of every VALUES block of ast.
