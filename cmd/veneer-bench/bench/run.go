@@ -193,7 +193,7 @@ func sides(cfg Config, q mix.Query) (veneer, twin side) {
 		accept, parse = results.NTriples.MediaType(), ParseNTriples
 	}
 	veneer = newSide(cfg.Veneer+"?query="+url.QueryEscape(q.SPARQL), accept, parse)
-	twin = newSide(cfg.Twin+q.Name, accept, parse)
+	twin = newSide(cfg.Twin+q.Name+"?"+q.Twin.ArgsQuery(), accept, parse)
 	return veneer, twin
 }
 

@@ -7,7 +7,10 @@ package mix
 import (
 	"context"
 	"fmt"
+	"net/url"
+	"strconv"
 	"strings"
+	"time"
 
 	"veneer/catalog"
 	"veneer/catalog/rdf"
@@ -223,4 +226,52 @@ func ReadParams(ctx context.Context, src source.Source) (Params, error) {
 		p.Turbines = append(p.Turbines, serial)
 	}
 	return p, nil
+}
+
+// ArgsQuery encodes the twin's bind parameters as a URL query string, one
+// "a" parameter each in order: what the SQL handler's client sends, as a
+// client of a hand-written service sends the values it asks about.
+func (t Twin) ArgsQuery() string {
+	v := url.Values{}
+	for _, a := range t.Args {
+		switch a := a.(type) {
+		case string:
+			v.Add("a", a)
+		case int64:
+			v.Add("a", strconv.FormatInt(a, 10))
+		case float64:
+			v.Add("a", strconv.FormatFloat(a, 'g', -1, 64))
+		case time.Time:
+			v.Add("a", a.Format(time.RFC3339Nano))
+		default:
+			panic(fmt.Sprintf("mix: a twin argument of type %T", a))
+		}
+	}
+	return v.Encode()
+}
+
+// ReadArgs decodes the "a" parameters that ArgsQuery wrote, each into the Go
+// type of the twin's own parameter at its place.
+func (t Twin) ReadArgs(values []string) ([]any, error) {
+	if len(values) != len(t.Args) {
+		return nil, fmt.Errorf("%d arguments, want %d", len(values), len(t.Args))
+	}
+	args := make([]any, len(values))
+	for i, s := range values {
+		var err error
+		switch t.Args[i].(type) {
+		case string:
+			args[i] = s
+		case int64:
+			args[i], err = strconv.ParseInt(s, 10, 64)
+		case float64:
+			args[i], err = strconv.ParseFloat(s, 64)
+		case time.Time:
+			args[i], err = time.Parse(time.RFC3339Nano, s)
+		}
+		if err != nil {
+			return nil, fmt.Errorf("argument %d: %w", i+1, err)
+		}
+	}
+	return args, nil
 }

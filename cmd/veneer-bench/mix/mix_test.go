@@ -1,7 +1,9 @@
 package mix
 
 import (
+	"net/url"
 	"testing"
+	"time"
 
 	"veneer/catalog/rdf"
 	"veneer/catalog/source"
@@ -64,5 +66,34 @@ func TestInstantiate(t *testing.T) {
 	}
 	if got := tw.Instantiate([]rdf.Term{rdf.NewString("Kerry")}); len(got) != 1 || got[0].O != rdf.NewString("Kerry") {
 		t.Errorf("bound object: got %v", got)
+	}
+}
+
+func TestTwinArgsRoundTrip(t *testing.T) {
+	// What the bench client sends is what the SQL handler binds, type for type.
+	at := time.Date(2024, 3, 1, 11, 45, 30, 5e8, time.UTC)
+	tw := Twin{Args: []any{"WF23-2011-000001", "a&b=c d", int64(-3000), 6.5, at}}
+	q, err := url.ParseQuery(tw.ArgsQuery())
+	if err != nil {
+		t.Fatal(err)
+	}
+	got, err := tw.ReadArgs(q["a"])
+	if err != nil {
+		t.Fatal(err)
+	}
+	for i, want := range tw.Args {
+		if w, ok := want.(time.Time); ok {
+			if g, ok := got[i].(time.Time); !ok || !g.Equal(w) {
+				t.Errorf("argument %d: %#v, want %v", i, got[i], w)
+			}
+		} else if got[i] != want {
+			t.Errorf("argument %d: %#v, want %#v", i, got[i], want)
+		}
+	}
+	if _, err := tw.ReadArgs(q["a"][:2]); err == nil {
+		t.Error("two arguments of five were read")
+	}
+	if _, err := (Twin{Args: []any{int64(1)}}).ReadArgs([]string{"x"}); err == nil {
+		t.Error(`"x" was read as an integer`)
 	}
 }

@@ -22,8 +22,9 @@ import (
 // Path is the route prefix: a twin is asked for as Path + the query's name.
 const Path = "/twin/"
 
-// Handler serves the twins of queries on src, each under Path + its name.
-// Every request runs under timeout.
+// Handler serves the twins of queries on src, each under Path + its name,
+// with its bind parameters as the "a" parameters of the URL's query string
+// (mix.Twin.ArgsQuery). Every request runs under timeout.
 func Handler(src source.Source, queries []mix.Query, timeout time.Duration) http.Handler {
 	byName := make(map[string]mix.Query, len(queries))
 	for _, q := range queries {
@@ -36,9 +37,16 @@ func Handler(src source.Source, queries []mix.Query, timeout time.Duration) http
 			http.NotFound(w, r)
 			return
 		}
+		// The values asked about come with the request, as they come to a
+		// hand-written service.
+		args, err := q.Twin.ReadArgs(r.URL.Query()["a"])
+		if err != nil {
+			http.Error(w, err.Error(), http.StatusBadRequest)
+			return
+		}
 		ctx, cancel := context.WithTimeout(r.Context(), timeout)
 		defer cancel()
-		if err := answer(ctx, w, src, q); err != nil && r.Context().Err() == nil {
+		if err := answer(ctx, w, src, q, args); err != nil && r.Context().Err() == nil {
 			// Once the body has begun, the status is sent: the broken document
 			// tells the client something went wrong.
 			http.Error(w, err.Error(), http.StatusInternalServerError)
@@ -52,10 +60,10 @@ func Handler(src source.Source, queries []mix.Query, timeout time.Duration) http
 // answer in one write with its Content-Length.
 type plain struct{ io.Writer }
 
-func answer(ctx context.Context, rw http.ResponseWriter, src source.Source, q mix.Query) error {
+func answer(ctx context.Context, rw http.ResponseWriter, src source.Source, q mix.Query, args []any) error {
 	t := q.Twin
 	w := plain{rw}
-	rows, err := src.Query(ctx, t.SQL, append([]any{t.Kinds}, t.Args...)...)
+	rows, err := src.Query(ctx, t.SQL, append([]any{t.Kinds}, args...)...)
 	if err != nil {
 		return err
 	}
