@@ -40,18 +40,25 @@ type load struct {
 	latencies    []time.Duration
 }
 
-// throughput runs cfg.Clients clients against each side, in the order veneer,
-// SQL, SQL, veneer for half of ThroughputTime each, so that a drift of the
-// machine's speed over the measurement weighs on both sides alike.
+// throughputRounds is how many times each side's measurement is cut.
+const throughputRounds = 5
+
+// throughput runs cfg.Clients clients against each side for ThroughputTime,
+// in throughputRounds rounds of veneer, SQL, SQL, veneer, so that a drift of
+// the machine's speed over the measurement, which on a shared machine is
+// felt within seconds, weighs on both sides alike.
 func throughput(ctx context.Context, cfg Config, c *client, q mix.Query) Throughput {
 	d := min(cfg.ThroughputTime, MaxThroughputTime)
 	veneer, twin := sides(cfg, q)
 	var v, s load
-	for _, step := range []struct {
-		side side
-		into *load
-	}{{veneer, &v}, {twin, &s}, {twin, &s}, {veneer, &v}} {
-		hammer(ctx, c, step.side, cfg.Clients, d/2, step.into)
+	step := d / (2 * throughputRounds)
+	for range throughputRounds {
+		for _, st := range []struct {
+			side side
+			into *load
+		}{{veneer, &v}, {twin, &s}, {twin, &s}, {veneer, &v}} {
+			hammer(ctx, c, st.side, cfg.Clients, step, st.into)
+		}
 	}
 	t := Throughput{
 		Query: q.Name, Clients: cfg.Clients, Seconds: d.Seconds(),
