@@ -64,6 +64,13 @@ func (r *Report) WriteMarkdown(w io.Writer) error {
 				t.Query, t.VeneerQPS, t.SQLQPS, ratio(t.Ratio), ms(t.VeneerP50), ms(t.VeneerP99),
 				ms(t.SQLP50), ms(t.SQLP99), t.VeneerErrors, t.SQLErrors)
 		}
+		for _, t := range r.Throughput {
+			for _, e := range []struct{ side, err string }{{"veneer", t.VeneerError}, {"SQL", t.SQLError}} {
+				if e.err != "" {
+					fmt.Fprintf(&b, "\n%s, %s, first failure: %s\n", t.Query, e.side, e.err)
+				}
+			}
+		}
 	}
 	_, err := io.WriteString(w, b.String())
 	return err

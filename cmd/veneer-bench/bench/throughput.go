@@ -31,11 +31,15 @@ type Throughput struct {
 	// Errors count failed requests; they are not counted as answers.
 	VeneerErrors int64 `json:"veneer_errors"`
 	SQLErrors    int64 `json:"sql_errors"`
+	// VeneerError and SQLError are the first failure of each side, if any.
+	VeneerError string `json:"veneer_error,omitempty"`
+	SQLError    string `json:"sql_error,omitempty"`
 }
 
 // load is what one side achieved under load.
 type load struct {
 	done, failed int64
+	firstErr     string
 	elapsed      time.Duration
 	latencies    []time.Duration
 }
@@ -63,7 +67,7 @@ func throughput(ctx context.Context, cfg Config, c *client, q mix.Query) Through
 	t := Throughput{
 		Query: q.Name, Clients: cfg.Clients, Seconds: d.Seconds(),
 		VeneerQPS: float64(v.done) / v.elapsed.Seconds(), SQLQPS: float64(s.done) / s.elapsed.Seconds(),
-		VeneerErrors: v.failed, SQLErrors: s.failed,
+		VeneerErrors: v.failed, SQLErrors: s.failed, VeneerError: v.firstErr, SQLError: s.firstErr,
 	}
 	if t.SQLQPS > 0 {
 		t.Ratio = t.VeneerQPS / t.SQLQPS
@@ -78,6 +82,7 @@ func hammer(ctx context.Context, c *client, s side, clients int, d time.Duration
 	ctx, cancel := context.WithTimeout(ctx, d)
 	defer cancel()
 	var done, failed atomic.Int64
+	var once sync.Once
 	lat := make([][]time.Duration, clients)
 	var wg sync.WaitGroup
 	start := time.Now()
@@ -90,6 +95,11 @@ func hammer(ctx context.Context, c *client, s side, clients int, d time.Duration
 					// Cut off by the end of the measurement: not an answer.
 				case err != nil:
 					failed.Add(1)
+					once.Do(func() {
+						if into.firstErr == "" {
+							into.firstErr = oneLine(err.Error())
+						}
+					})
 				default:
 					done.Add(1)
 					lat[i] = append(lat[i], took)
