@@ -61,7 +61,7 @@ func isRangeError(err error) bool {
 	return ok && ne.Err == strconv.ErrRange
 }
 
-func digitsOnly(s string) bool {
+func digitsOnly[T ~string | ~[]byte](s T) bool {
 	for i := 0; i < len(s); i++ {
 		if s[i] < '0' || s[i] > '9' {
 			return false

@@ -398,7 +398,7 @@ func appendTextDecimal(dst, text []byte) ([]byte, bool) {
 	if i := bytes.IndexByte(text, '.'); i >= 0 {
 		whole, frac = text[:i], text[i+1:]
 	}
-	if len(whole)+len(frac) == 0 || !allDigits(whole) || !allDigits(frac) {
+	if len(whole)+len(frac) == 0 || !digitsOnly(whole) || !digitsOnly(frac) {
 		return dst, false
 	}
 	whole = bytes.TrimLeft(whole, "0")
@@ -418,15 +418,6 @@ func appendTextDecimal(dst, text []byte) ([]byte, bool) {
 		dst = append(dst, frac...)
 	}
 	return dst, true
-}
-
-func allDigits(b []byte) bool {
-	for _, c := range b {
-		if c < '0' || c > '9' {
-			return false
-		}
-	}
-	return true
 }
 
 // CanonicalDouble writes f in the XSD canonical form for xsd:double: a mantissa

@@ -6,8 +6,8 @@ import (
 	"net/http"
 	"strconv"
 	"strings"
-	"sync"
 
+	"veneer/server/internal/bufpool"
 	"veneer/server/results"
 )
 
@@ -91,21 +91,13 @@ type wholeOrStream struct {
 	streaming bool
 }
 
-// bodies recycles the buffers of wholeOrStream: most answers are small and
-// whole, and a fresh buffer for each would make the garbage collector run for
-// every few requests of a busy endpoint.
-var bodies = sync.Pool{New: func() any {
-	b := make([]byte, 0, 4<<10)
-	return &b
-}}
-
 func (b *wholeOrStream) Write(p []byte) (int, error) {
 	if b.streaming {
 		return b.w.Write(p)
 	}
 	if b.pool == nil {
-		b.pool = bodies.Get().(*[]byte)
-		b.buf = (*b.pool)[:0]
+		b.pool = bufpool.Get()
+		b.buf = *b.pool
 	}
 	b.buf = append(b.buf, p...)
 	return len(p), nil
@@ -125,10 +117,8 @@ func (b *wholeOrStream) stream() error {
 		return nil
 	}
 	_, err := b.w.Write(b.buf)
-	if cap(b.buf) <= 64<<10 {
-		*b.pool = b.buf[:0]
-		bodies.Put(b.pool)
-	}
+	*b.pool = b.buf
+	bufpool.Put(b.pool)
 	b.buf, b.pool = nil, nil
 	return err
 }

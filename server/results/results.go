@@ -39,9 +39,9 @@ import (
 	"fmt"
 	"io"
 	"slices"
-	"sync"
 
 	"veneer/catalog/rdf"
+	"veneer/server/internal/bufpool"
 )
 
 // SelectWriter writes the solutions of a SELECT query.
@@ -91,17 +91,9 @@ type sink struct {
 	pool  *[]byte // where buf goes back to the pool, once released
 }
 
-// buffers recycles the sinks' buffers: most answers are small, and a fresh
-// buffer for each would make the garbage collector run for every few
-// requests of a busy endpoint.
-var buffers = sync.Pool{New: func() any {
-	b := make([]byte, 0, startBytes)
-	return &b
-}}
-
 func newSink(w io.Writer) sink {
-	p := buffers.Get().(*[]byte)
-	s := sink{w: w, buf: (*p)[:0], pool: p}
+	p := bufpool.Get()
+	s := sink{w: w, buf: *p, pool: p}
 	switch f := w.(type) {
 	case interface{ Flush() error }:
 		s.flush = f.Flush
@@ -134,9 +126,9 @@ func (s *sink) send() error {
 // release gives the buffer back to the pool once the document is complete;
 // the sink must not be used after it.
 func (s *sink) release() {
-	if s.pool != nil && cap(s.buf) <= 4*flushBytes {
-		*s.pool = s.buf[:0]
-		buffers.Put(s.pool)
+	if s.pool != nil {
+		*s.pool = s.buf
+		bufpool.Put(s.pool)
 	}
 	s.buf, s.pool = nil, nil
 }

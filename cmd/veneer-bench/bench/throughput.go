@@ -83,6 +83,7 @@ func hammer(ctx context.Context, c *client, s side, clients int, d time.Duration
 	defer cancel()
 	var done, failed atomic.Int64
 	var once sync.Once
+	var firstErr string
 	lat := make([][]time.Duration, clients)
 	var wg sync.WaitGroup
 	start := time.Now()
@@ -95,11 +96,7 @@ func hammer(ctx context.Context, c *client, s side, clients int, d time.Duration
 					// Cut off by the end of the measurement: not an answer.
 				case err != nil:
 					failed.Add(1)
-					once.Do(func() {
-						if into.firstErr == "" {
-							into.firstErr = oneLine(err.Error())
-						}
-					})
+					once.Do(func() { firstErr = oneLine(err.Error()) })
 				default:
 					done.Add(1)
 					lat[i] = append(lat[i], took)
@@ -111,6 +108,9 @@ func hammer(ctx context.Context, c *client, s side, clients int, d time.Duration
 	into.elapsed += time.Since(start)
 	into.done += done.Load()
 	into.failed += failed.Load()
+	if into.firstErr == "" {
+		into.firstErr = firstErr
+	}
 	for _, l := range lat {
 		into.latencies = append(into.latencies, l...)
 	}
