@@ -84,3 +84,17 @@ func (a *admission) release() {
 		<-a.slots
 	}
 }
+
+// held is an admitted query's slot; release gives it back, once however
+// often it is called.
+type held struct {
+	a        *admission
+	released bool
+}
+
+func (h *held) release() {
+	if !h.released {
+		h.released = true
+		h.a.release()
+	}
+}

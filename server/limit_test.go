@@ -3,6 +3,7 @@ package server
 import (
 	"context"
 	"net/http"
+	"net/http/httptest"
 	"strings"
 	"sync"
 	"testing"
@@ -141,5 +142,53 @@ func waitFor(t *testing.T, cond func() bool) {
 		if time.Now().After(deadline) {
 			t.Fatal("condition not reached in 30s")
 		}
+	}
+}
+
+// sendGate is a ResponseWriter whose first Write waits until the test lets
+// it go, like a client that reads its answer slowly.
+type sendGate struct {
+	header  http.Header
+	status  int
+	writing chan struct{} // closed when the first Write begins
+	proceed chan struct{}
+	once    sync.Once
+}
+
+func (g *sendGate) Header() http.Header { return g.header }
+func (g *sendGate) WriteHeader(code int) {
+	if g.status == 0 {
+		g.status = code
+	}
+}
+func (g *sendGate) Write(b []byte) (int, error) {
+	g.WriteHeader(http.StatusOK)
+	g.once.Do(func() { close(g.writing) })
+	<-g.proceed
+	return len(b), nil
+}
+
+func TestSlotFreeWhileTheAnswerIsSent(t *testing.T) {
+	// One slot and no queue: while the first answer, read to its end, is on
+	// its way to a slow client, a second query is admitted, not refused.
+	cfg := DefaultConfig()
+	cfg.Limits.MaxConcurrent, cfg.Limits.MaxQueued = 1, 0
+	env := newEnv(t, cfg, &fakeEngine{answer: rowsAnswer(3, -1)})
+	h := env.srv.Handler()
+	gate := &sendGate{header: http.Header{}, writing: make(chan struct{}), proceed: make(chan struct{})}
+	done := make(chan struct{})
+	go func() {
+		defer close(done)
+		h.ServeHTTP(gate, httptest.NewRequest(http.MethodGet, "/sparql?query=q", nil))
+	}()
+	<-gate.writing
+	second := env.do(t, "GET", "/sparql?query=q", "")
+	close(gate.proceed)
+	<-done
+	if second.status != http.StatusOK {
+		t.Errorf("the second query while the first answer was sent: %d %s", second.status, second.body)
+	}
+	if gate.status != http.StatusOK {
+		t.Errorf("the first query: status %d", gate.status)
 	}
 }

@@ -47,12 +47,14 @@ func formatNames(k results.Kind) string {
 // writeAnswer streams an answer in format f and returns the number of
 // solutions or triples sent. An answer that is whole within the rows held
 // back (see holdRows) goes out in one write with its Content-Length, so that
-// the client has all of it at once; a longer one streams.
-func (s *Server) writeAnswer(w http.ResponseWriter, a *Answer, f results.Format) (int64, error) {
+// the client has all of it at once; a longer one streams. read, when not nil,
+// is called once the answer has been read to its end, before the last of it
+// is sent.
+func (s *Server) writeAnswer(w http.ResponseWriter, a *Answer, f results.Format, read func()) (int64, error) {
 	h := w.Header()
 	h.Set("Content-Type", f.ContentType())
 	h.Add("Vary", "Accept")
-	out := &wholeOrStream{w: w}
+	out := &wholeOrStream{w: w, read: read}
 	max := s.cfg.Limits.MaxRows
 	switch a.Kind {
 	case results.Boolean:
@@ -86,6 +88,7 @@ func (s *Server) writeAnswer(w http.ResponseWriter, a *Answer, f results.Format)
 // out in one write with its length, or long, which then streams.
 type wholeOrStream struct {
 	w         http.ResponseWriter
+	read      func() // called by whole, when not nil
 	buf       []byte
 	pool      *[]byte // where buf came from, nil before the first Write
 	streaming bool
@@ -123,8 +126,12 @@ func (b *wholeOrStream) stream() error {
 	return err
 }
 
-// whole sends the whole answer with its length.
+// whole sends the whole answer with its length; it is called once the
+// answer has been read to its end, which it first tells b.read.
 func (b *wholeOrStream) whole() error {
+	if b.read != nil {
+		b.read()
+	}
 	if b.streaming {
 		return nil
 	}

@@ -21,6 +21,7 @@ import (
 	"github.com/prometheus/client_golang/prometheus"
 	"github.com/prometheus/client_golang/prometheus/promhttp"
 
+	"veneer/catalog/source"
 	"veneer/rewrite/exec"
 	"veneer/server/console"
 )
@@ -81,8 +82,10 @@ type Config struct {
 func DefaultConfig() Config {
 	return Config{
 		Limits: Limits{
-			QueryTimeout:  30 * time.Second,
-			MaxConcurrent: 16,
+			QueryTimeout: 30 * time.Second,
+			// As many as the default pool has connections: the admission
+			// queue is then the only queue (README, "Sizing").
+			MaxConcurrent: source.DefaultMaxConns,
 			MaxQueued:     64,
 			QueueTimeout:  10 * time.Second,
 			MaxQueryBytes: 256 << 10,
@@ -198,7 +201,10 @@ func (s *Server) sparql(w http.ResponseWriter, r *http.Request) error {
 	if err := s.admission.acquire(r.Context()); err != nil {
 		return err
 	}
-	defer s.admission.release()
+	// The slot goes back once the answer is read, before the last of it is
+	// sent: a query that only waits on the client's network holds no slot.
+	slot := &held{a: s.admission}
+	defer slot.release()
 	ctx, cancel := s.queryContext(r.Context(), op)
 	defer cancel()
 	start := time.Now()
@@ -212,7 +218,7 @@ func (s *Server) sparql(w http.ResponseWriter, r *http.Request) error {
 		return err
 	}
 	infoOf(r.Context()).format = f.Name()
-	n, err := s.writeAnswer(w, a, f)
+	n, err := s.writeAnswer(w, a, f, slot.release)
 	a.Close()
 	d := time.Since(start)
 	km := s.metrics.ofKind(a.Kind)

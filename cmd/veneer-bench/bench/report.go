@@ -7,6 +7,7 @@ import (
 	"math"
 	"strconv"
 	"strings"
+	"time"
 )
 
 // Summary is the run's last line: `bench DB sf=N: median ratio R, worst ratio
@@ -57,13 +58,15 @@ func (r *Report) WriteMarkdown(w io.Writer) error {
 	if len(r.Throughput) > 0 {
 		t0 := r.Throughput[0]
 		fmt.Fprintf(&b, "\nThroughput, %d clients, %.0f s per side:\n\n", t0.Clients, t0.Seconds)
-		b.WriteString("| query | veneer q/s | SQL q/s | ratio | veneer p50 / p99 ms | SQL p50 / p99 ms | errors (veneer / SQL) |\n")
-		b.WriteString("| --- | ---: | ---: | ---: | ---: | ---: | ---: |\n")
+		b.WriteString("| query | veneer q/s | SQL q/s | ratio | veneer p50 / p99 ms | SQL p50 / p99 ms | errors (veneer / SQL) | CPU µs per answer, veneer (process / rest) | CPU µs per answer, SQL (process / rest) |\n")
+		b.WriteString("| --- | ---: | ---: | ---: | ---: | ---: | ---: | ---: | ---: |\n")
 		for _, t := range r.Throughput {
-			fmt.Fprintf(&b, "| %s | %.0f | %.0f | %s | %.2f / %.2f | %.2f / %.2f | %d / %d |\n",
+			fmt.Fprintf(&b, "| %s | %.0f | %.0f | %s | %.2f / %.2f | %.2f / %.2f | %d / %d | %s | %s |\n",
 				t.Query, t.VeneerQPS, t.SQLQPS, ratio(t.Ratio), ms(t.VeneerP50), ms(t.VeneerP99),
-				ms(t.SQLP50), ms(t.SQLP99), t.VeneerErrors, t.SQLErrors)
+				ms(t.SQLP50), ms(t.SQLP99), t.VeneerErrors, t.SQLErrors,
+				cpuCell(t.VeneerCPU, t.VeneerRestCPU), cpuCell(t.SQLCPU, t.SQLRestCPU))
 		}
+		b.WriteString("\nThe process is the load generator with both servers; the rest is the database server and whatever else the machine runs.\n")
 		for _, t := range r.Throughput {
 			for _, e := range []struct{ side, err string }{{"veneer", t.VeneerError}, {"SQL", t.SQLError}} {
 				if e.err != "" {
@@ -74,6 +77,16 @@ func (r *Report) WriteMarkdown(w io.Writer) error {
 	}
 	_, err := io.WriteString(w, b.String())
 	return err
+}
+
+// cpuCell shows CPU times per answer in microseconds, or a dash where they
+// could not be read.
+func cpuCell(process, rest Micros) string {
+	if process == 0 {
+		return "—"
+	}
+	us := func(m Micros) float64 { return float64(m) / float64(time.Microsecond) }
+	return fmt.Sprintf("%.0f / %.0f", us(process), us(rest))
 }
 
 func msCell(d Micros) string {

@@ -34,6 +34,13 @@ type Throughput struct {
 	// VeneerError and SQLError are the first failure of each side, if any.
 	VeneerError string `json:"veneer_error,omitempty"`
 	SQLError    string `json:"sql_error,omitempty"`
+	// The CPU time per answer spent in this process (load generator and
+	// server) and in the rest of the machine (the database server and
+	// anything else running); zero where it cannot be read.
+	VeneerCPU     Micros `json:"veneer_process_cpu_us,omitempty"`
+	VeneerRestCPU Micros `json:"veneer_rest_cpu_us,omitempty"`
+	SQLCPU        Micros `json:"sql_process_cpu_us,omitempty"`
+	SQLRestCPU    Micros `json:"sql_rest_cpu_us,omitempty"`
 }
 
 // load is what one side achieved under load.
@@ -41,11 +48,14 @@ type load struct {
 	done, failed int64
 	firstErr     string
 	elapsed      time.Duration
+	cpu          cpuUse
 	latencies    []time.Duration
 }
 
-// throughputRounds is how many times each side's measurement is cut.
-const throughputRounds = 5
+// throughputRounds is how many times each side's measurement is cut: at the
+// default 10 s a side, each step lasts 250 ms, shorter than the swings of a
+// shared machine's speed, and long enough for thousands of answers.
+const throughputRounds = 20
 
 // throughput runs cfg.Clients clients against each side for ThroughputTime,
 // in throughputRounds rounds of veneer, SQL, SQL, veneer, so that a drift of
@@ -72,6 +82,8 @@ func throughput(ctx context.Context, cfg Config, c *client, q mix.Query) Through
 	if t.SQLQPS > 0 {
 		t.Ratio = t.VeneerQPS / t.SQLQPS
 	}
+	t.VeneerCPU, t.VeneerRestCPU = v.cpu.perAnswer(v.done)
+	t.SQLCPU, t.SQLRestCPU = s.cpu.perAnswer(s.done)
 	t.VeneerP50, t.VeneerP99 = percentiles(v.latencies)
 	t.SQLP50, t.SQLP99 = percentiles(s.latencies)
 	return t
@@ -86,6 +98,7 @@ func hammer(ctx context.Context, c *client, s side, clients int, d time.Duration
 	var firstErr string
 	lat := make([][]time.Duration, clients)
 	var wg sync.WaitGroup
+	cpu := sampleCPU()
 	start := time.Now()
 	for i := range clients {
 		wg.Go(func() {
@@ -106,6 +119,7 @@ func hammer(ctx context.Context, c *client, s side, clients int, d time.Duration
 	}
 	wg.Wait()
 	into.elapsed += time.Since(start)
+	into.cpu.add(cpu, sampleCPU())
 	into.done += done.Load()
 	into.failed += failed.Load()
 	if into.firstErr == "" {
