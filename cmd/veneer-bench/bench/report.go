@@ -7,7 +7,6 @@ import (
 	"math"
 	"strconv"
 	"strings"
-	"time"
 )
 
 // Summary is the run's last line: `bench DB sf=N: median ratio R, worst ratio
@@ -85,7 +84,6 @@ func cpuCell(process, rest Micros) string {
 	if process == 0 {
 		return "—"
 	}
-	us := func(m Micros) float64 { return float64(m) / float64(time.Microsecond) }
 	return fmt.Sprintf("%.0f / %.0f", us(process), us(rest))
 }
 
