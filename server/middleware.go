@@ -1,7 +1,6 @@
 package server
 
 import (
-	"context"
 	"encoding/binary"
 	"encoding/hex"
 	"errors"
@@ -26,22 +25,13 @@ type requestInfo struct {
 	format string // result format name, set once the answer's format is known
 }
 
-type infoKey struct{}
-
-// RequestID returns the id of the request ctx belongs to, or "".
-func RequestID(ctx context.Context) string {
-	if info, ok := ctx.Value(infoKey{}).(*requestInfo); ok {
-		return info.id
+// infoOf returns the request information the observe middleware keeps with
+// the response writer, or a blank one for a writer it did not wrap.
+func infoOf(w http.ResponseWriter) *requestInfo {
+	if rec, ok := w.(*recorder); ok {
+		return &rec.info
 	}
-	return ""
-}
-
-func infoOf(ctx context.Context) *requestInfo {
-	info, _ := ctx.Value(infoKey{}).(*requestInfo)
-	if info == nil {
-		info = &requestInfo{}
-	}
-	return info
+	return &requestInfo{}
 }
 
 // requestID returns a usable id from the request header, or a new one. A
@@ -66,10 +56,13 @@ func requestID(r *http.Request) string {
 	return hex.EncodeToString(b[:])
 }
 
-// recorder remembers the status and size of a response. It keeps the optional
-// interfaces streaming needs: Flush, and Unwrap for http.ResponseController.
+// recorder remembers the status and size of a response, and carries the
+// request's information to its handlers (no context copy per request). It
+// keeps the optional interfaces streaming needs: Flush, and Unwrap for
+// http.ResponseController.
 type recorder struct {
 	http.ResponseWriter
+	info   requestInfo
 	status int
 	bytes  int64
 }
@@ -115,13 +108,9 @@ func (w *recorder) committed() bool { return w.status != 0 }
 func (s *Server) observe(next http.Handler) http.Handler {
 	return http.HandlerFunc(func(w http.ResponseWriter, r *http.Request) {
 		start := time.Now()
-		x := &struct { // one allocation for both
-			info requestInfo
-			rec  recorder
-		}{requestInfo{id: requestID(r)}, recorder{ResponseWriter: w}}
-		info, rec := &x.info, &x.rec
+		rec := &recorder{ResponseWriter: w, info: requestInfo{id: requestID(r)}}
+		info := &rec.info
 		w.Header().Set(RequestIDHeader, info.id)
-		r = r.WithContext(context.WithValue(r.Context(), infoKey{}, info))
 		aborted := false
 		defer func() {
 			v := recover()
@@ -200,7 +189,7 @@ type handlerFunc func(w http.ResponseWriter, r *http.Request) error
 // for a whole answer.
 func (s *Server) handle(route string, h handlerFunc) http.HandlerFunc {
 	return func(w http.ResponseWriter, r *http.Request) {
-		info := infoOf(r.Context())
+		info := infoOf(w)
 		info.route = route
 		err := h(w, r)
 		if err == nil {

@@ -217,7 +217,7 @@ func (s *Server) sparql(w http.ResponseWriter, r *http.Request) error {
 		a.Close()
 		return err
 	}
-	infoOf(r.Context()).format = f.Name()
+	infoOf(w).format = f.Name()
 	n, err := s.writeAnswer(w, a, f, slot.release)
 	a.Close()
 	d := time.Since(start)
@@ -236,7 +236,7 @@ func (s *Server) sparql(w http.ResponseWriter, r *http.Request) error {
 		}
 	}
 	if s.cfg.SlowQuery > 0 && d >= s.cfg.SlowQuery {
-		s.logSlow(r.Context(), op, a, d, n, err)
+		s.logSlow(r.Context(), infoOf(w).id, op, a, d, n, err)
 	}
 	return s.failed(r.Context(), ctx, err)
 }
@@ -281,9 +281,9 @@ const slowLogText = 8 << 10
 
 // logSlow writes the slow-query log line: the query, the SQL it ran (with
 // placeholders, never the values), and what it cost.
-func (s *Server) logSlow(ctx context.Context, op *operation, a *Answer, d time.Duration, rows int64, err error) {
+func (s *Server) logSlow(ctx context.Context, id string, op *operation, a *Answer, d time.Duration, rows int64, err error) {
 	attrs := []slog.Attr{
-		slog.String("request_id", RequestID(ctx)),
+		slog.String("request_id", id),
 		slog.Float64("duration_ms", float64(d.Microseconds())/1000),
 		slog.Int64("rows", rows),
 		slog.String("kind", a.Kind.String()),

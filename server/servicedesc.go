@@ -88,7 +88,7 @@ func (s *Server) describe(w http.ResponseWriter, r *http.Request, endpoint strin
 		return &problem{status: http.StatusNotAcceptable,
 			msg: "the service description is available as " + strings.Join(descriptionTypes[:3], ", ") + " and the query page as " + mediaHTML}
 	}
-	info := infoOf(r.Context())
+	info := infoOf(w)
 	if mt == mediaHTML {
 		info.format = "html"
 		s.console.ServePage(w, r)
