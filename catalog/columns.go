@@ -317,6 +317,18 @@ func (c *Columns) readSchema(cat *Catalog, schema *source.Schema) {
 // base table of the source's current schema; none otherwise.
 func (c *Columns) ForeignKeys(t LogicalTable) []source.ForeignKey { return c.foreign[t.Key()] }
 
+// NotNull reports whether the schema keeps the column that the database
+// names col, of logical table t, from ever being NULL; false when it does
+// not know the column.
+func (c *Columns) NotNull(t LogicalTable, col string) bool {
+	for _, tc := range c.tables[t.Key()] {
+		if tc.Name == col {
+			return tc.NotNull
+		}
+	}
+	return false
+}
+
 // Keys returns the column sets (as the database names the columns) whose values
 // determine a row of the logical table; none for views and unknown tables.
 func (c *Columns) Keys(t LogicalTable) [][]string { return c.keys[t.Key()] }

@@ -2,6 +2,8 @@ package rewrite
 
 import (
 	"fmt"
+	"maps"
+	"slices"
 
 	"veneer/catalog"
 	"veneer/catalog/source"
@@ -363,8 +365,11 @@ func (q *query) pruneTable(b *branch, t *sql.Table, tables map[string]*sql.Table
 		}
 	}
 	out.where = kept
-	for _, c := range pairs {
-		out.where = append(out.where, sql.IsNull{X: colRef(child.Alias, c), Not: true})
+	ct := q.pl.tables[child.Key]
+	for _, c := range slices.Sorted(maps.Values(pairs)) {
+		if !q.pl.cols.NotNull(ct, c) { // a NOT NULL column needs no test
+			out.where = append(out.where, sql.IsNull{X: colRef(child.Alias, c), Not: true})
+		}
 	}
 	return &out, true
 }

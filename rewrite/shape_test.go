@@ -89,6 +89,36 @@ func TestOneRowNeedsNoDistinct(t *testing.T) {
 	}
 }
 
+// TestPrunedJoinTestsOnlyNullableKeys checks join elimination over a foreign
+// key: a triple pattern whose object is the referenced row's IRI exists for a
+// row exactly when its foreign key column is set (R2RML §11: no term, no
+// triple), so the pruned SQL tests IS NOT NULL on a nullable column and
+// nothing on a NOT NULL one. Demo schema: work_order.technician_id is
+// nullable, work_order.turbine_id and inspection.turbine_id are NOT NULL.
+func TestPrunedJoinTestsOnlyNullableKeys(t *testing.T) {
+	pl := demoPlanner(t)
+	const p = "PREFIX wf: <https://vocab.veneer.example/windfarm#>\n"
+	for _, c := range []struct {
+		query, want string
+		nullTests   int
+	}{
+		{p + "SELECT ?w WHERE { ?w wf:assignedTo ?tech }", `"technician_id" IS NOT NULL`, 1},
+		{p + "SELECT (COUNT(*) AS ?n) WHERE { ?s wf:onTurbine ?o }", "", 0},
+	} {
+		plan, err := pl.Compile(c.query)
+		if err != nil {
+			t.Fatal(err)
+		}
+		text := rewrite.Explain(plan)
+		if got := strings.Count(text, "IS NOT NULL"); got != c.nullTests || !strings.Contains(text, c.want) {
+			t.Errorf("%s: %d IS NOT NULL tests, want %d (%s)\n%s", c.query, got, c.nullTests, c.want, text)
+		}
+		if strings.Contains(text, "technician ") || strings.Contains(text, "FROM turbine") {
+			t.Errorf("%s: the referenced table is still joined\n%s", c.query, text)
+		}
+	}
+}
+
 // countTables counts the base-table references in a statement's FROM clauses,
 // sub-queries included.
 func countTables(s sql.Stmt) int {
