@@ -89,10 +89,12 @@ func throughput(ctx context.Context, cfg Config, c *client, q mix.Query) Through
 	return t
 }
 
-// hammer has clients goroutines ask s back to back for d.
+// hammer has clients goroutines ask s back to back for d, then waits for the
+// answers still on their way, which count. A request is never cut off at the
+// end of the step: a cancelled request would leave its work running on the
+// server into the next step, as load that no client sent (and an admission
+// queue full of it).
 func hammer(ctx context.Context, c *client, s side, clients int, d time.Duration, into *load) {
-	ctx, cancel := context.WithTimeout(ctx, d)
-	defer cancel()
 	var done, failed atomic.Int64
 	var once sync.Once
 	var firstErr string
@@ -100,13 +102,14 @@ func hammer(ctx context.Context, c *client, s side, clients int, d time.Duration
 	var wg sync.WaitGroup
 	cpu := sampleCPU()
 	start := time.Now()
+	end := start.Add(d)
 	for i := range clients {
 		wg.Go(func() {
-			for ctx.Err() == nil {
+			for ctx.Err() == nil && time.Now().Before(end) {
 				_, took, err := c.fetch(ctx, s)
 				switch {
 				case ctx.Err() != nil:
-					// Cut off by the end of the measurement: not an answer.
+					// The run was cancelled: not an answer.
 				case err != nil:
 					failed.Add(1)
 					once.Do(func() { firstErr = oneLine(err.Error()) })
