@@ -28,16 +28,16 @@ import (
 	"veneer/server/console"
 )
 
-// countingEngine counts the calls that reach the engine's data: Query and
+// countingEngine counts the calls that reach the engine: Prepare and
 // Explain.
 type countingEngine struct {
 	Engine
 	reached atomic.Int64
 }
 
-func (c *countingEngine) Query(ctx context.Context, q Query) (*Answer, error) {
+func (c *countingEngine) Prepare(q Query) (Prepared, error) {
 	c.reached.Add(1)
-	return c.Engine.Query(ctx, q)
+	return c.Engine.Prepare(q)
 }
 
 func (c *countingEngine) Explain(ctx context.Context, q Query) (*Explanation, error) {

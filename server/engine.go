@@ -13,14 +13,23 @@ import (
 // Engine answers SPARQL queries; FromExec adapts veneer's query engine. The
 // server calls it from many goroutines at once.
 type Engine interface {
-	// Query starts answering q. The context bounds the whole answer: the
-	// cursors of the Answer stop, and the SQL is cancelled, when it ends.
-	// Errors carry an exec.ErrorKind (see exec.Error), which decides the
-	// HTTP status.
-	Query(ctx context.Context, q Query) (*Answer, error)
+	// Prepare parses and plans q. It reads no source: the server admits a
+	// query to one of its query slots (see Limits) only once it is
+	// prepared, so that a query that does not parse costs no slot and a slot
+	// is held only while the sources are read. Errors carry an
+	// exec.ErrorKind (see exec.Error), which decides the HTTP status.
+	Prepare(q Query) (Prepared, error)
 	// Ready reports whether the engine can answer: its catalog is loaded and
 	// every source it reads answers.
 	Ready(ctx context.Context) error
+}
+
+// Prepared is a query its engine has planned.
+type Prepared interface {
+	// Start starts answering the query. The context bounds the whole
+	// answer: the cursors of the Answer stop, and the SQL is cancelled, when
+	// it ends. Errors carry an exec.ErrorKind, as Prepare's do.
+	Start(ctx context.Context) (*Answer, error)
 }
 
 // Query is one query operation of the SPARQL 1.1 Protocol (§2.1).

@@ -25,9 +25,25 @@ func request(q Query) rewrite.Request {
 	return r
 }
 
-// Query implements Engine.
-func (x execEngine) Query(ctx context.Context, q Query) (*Answer, error) {
-	c, err := x.e.QueryRequest(ctx, request(q))
+// Prepare implements Engine.
+func (x execEngine) Prepare(q Query) (Prepared, error) {
+	p, err := x.e.Prepare(request(q))
+	if err != nil {
+		return nil, err
+	}
+	return execPrepared{x.e, q, p}, nil
+}
+
+// execPrepared is a query prepared by veneer's engine.
+type execPrepared struct {
+	e *exec.Engine
+	q Query
+	p *exec.Prepared
+}
+
+// Start implements Prepared.
+func (x execPrepared) Start(ctx context.Context) (*Answer, error) {
+	c, err := x.p.Run(ctx)
 	if err != nil {
 		return nil, err
 	}
@@ -35,7 +51,7 @@ func (x execEngine) Query(ctx context.Context, q Query) (*Answer, error) {
 		// The cursor does not show its plan; planning again is cheap next to
 		// a query slow enough to be logged.
 		SQL: func() []string {
-			p, _, err := x.e.Planner.CompileRequest(request(q))
+			p, _, err := x.e.Planner.CompileRequest(request(x.q))
 			if err != nil {
 				return nil
 			}

@@ -2,12 +2,15 @@ package server
 
 import (
 	"context"
+	"errors"
 	"net/http"
 	"net/http/httptest"
 	"strings"
 	"sync"
 	"testing"
 	"time"
+
+	"veneer/rewrite/exec"
 )
 
 func TestConcurrencyLimitAndQueue(t *testing.T) {
@@ -68,6 +71,58 @@ func TestQueueTimeout(t *testing.T) {
 	}
 	if m := env.metric(t, `veneer_queries_rejected_total{reason="queue_timeout"}`); !strings.HasSuffix(m, " 1") {
 		t.Errorf("rejection not counted: %q", m)
+	}
+}
+
+func TestQueryThatDoesNotPrepareTakesNoSlot(t *testing.T) {
+	// One slot, held, and no queue: a well-formed query is refused with 503,
+	// while one its engine cannot prepare is told why with 400 at once,
+	// since it would never read a source.
+	started, release := make(chan struct{}, 1), make(chan struct{})
+	defer close(release)
+	cfg := DefaultConfig()
+	cfg.Limits.MaxConcurrent, cfg.Limits.MaxQueued = 1, 0
+	env := newEnv(t, cfg, &fakeEngine{
+		answer: blockingAnswer(started, release),
+		prepare: func(q Query) error {
+			if q.Text == "bad" {
+				return &exec.Error{Kind: exec.BadQuery, Err: errors.New("syntax error at 1:1")}
+			}
+			return nil
+		},
+	})
+	go env.status("/sparql?query=q")
+	<-started
+	if r := env.do(t, "GET", "/sparql?query=bad", ""); r.status != http.StatusBadRequest || !strings.Contains(r.body, "syntax error at 1:1") {
+		t.Errorf("a query that does not prepare: %d %q", r.status, r.body)
+	}
+	if r := env.do(t, "GET", "/sparql?query=q", ""); r.status != http.StatusServiceUnavailable {
+		t.Errorf("a query beyond the limit: %d %q", r.status, r.body)
+	}
+}
+
+func TestQueueExpiryIsShared(t *testing.T) {
+	// Queries that start waiting within a sixteenth of the timeout share one
+	// channel, which closes no sooner than the timeout after the last of
+	// them; a later one gets a channel of its own.
+	e := expiry{wait: time.Hour}
+	now := time.Now()
+	first := e.after(now)
+	if e.after(now.Add(3*time.Minute)) != first {
+		t.Errorf("a query 3 minutes later, within the sixteenth, got a channel of its own")
+	}
+	if e.at.Before(now.Add(3*time.Minute + time.Hour)) {
+		t.Errorf("the shared channel closes at %v, before the later query's timeout", e.at.Sub(now))
+	}
+	if e.after(now.Add(5*time.Minute)) == first {
+		t.Errorf("a query 5 minutes later, past the sixteenth, got the earlier channel")
+	}
+	// A short timeout: the channel closes, and not before the timeout.
+	short := expiry{wait: 20 * time.Millisecond}
+	start := time.Now()
+	<-short.after(start)
+	if d := time.Since(start); d < 20*time.Millisecond {
+		t.Errorf("closed after %v, before the 20ms timeout", d)
 	}
 }
 

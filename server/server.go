@@ -36,8 +36,8 @@ type Limits struct {
 	// MaxQueued is the number of queries that may wait for one of the
 	// MaxConcurrent slots; one more is refused at once with 503.
 	MaxQueued int
-	// QueueTimeout bounds the wait for a slot; past it the query is refused
-	// with 503.
+	// QueueTimeout bounds the wait for a slot; past it (by at most a
+	// sixteenth of it) the query is refused with 503.
 	QueueTimeout time.Duration
 	// MaxQueryBytes bounds the length of the query text.
 	MaxQueryBytes int64
@@ -198,6 +198,10 @@ func (s *Server) sparql(w http.ResponseWriter, r *http.Request) error {
 	if err != nil {
 		return err
 	}
+	prep, err := s.currentEngine().Prepare(op.query)
+	if err != nil {
+		return s.failed(r.Context(), r.Context(), err)
+	}
 	if err := s.admission.acquire(r.Context()); err != nil {
 		return err
 	}
@@ -208,7 +212,7 @@ func (s *Server) sparql(w http.ResponseWriter, r *http.Request) error {
 	ctx, cancel := s.queryContext(r.Context(), op)
 	defer cancel()
 	start := time.Now()
-	a, err := s.currentEngine().Query(ctx, op.query)
+	a, err := prep.Start(ctx)
 	if err != nil {
 		return s.failed(r.Context(), ctx, err)
 	}

@@ -28,15 +28,30 @@ type fakeEngine struct {
 	mu     sync.Mutex
 	got    []Query
 	answer func(ctx context.Context, q Query) (*Answer, error)
-	ready  error
+	// prepare, when set, fails the queries it returns an error for.
+	prepare func(q Query) error
+	ready   error
 }
 
-func (f *fakeEngine) Query(ctx context.Context, q Query) (*Answer, error) {
+func (f *fakeEngine) Prepare(q Query) (Prepared, error) {
 	f.mu.Lock()
 	f.got = append(f.got, q)
 	f.mu.Unlock()
-	return f.answer(ctx, q)
+	if f.prepare != nil {
+		if err := f.prepare(q); err != nil {
+			return nil, err
+		}
+	}
+	return fakePrepared{f, q}, nil
 }
+
+// fakePrepared answers its query with its engine's answer function.
+type fakePrepared struct {
+	f *fakeEngine
+	q Query
+}
+
+func (p fakePrepared) Start(ctx context.Context) (*Answer, error) { return p.f.answer(ctx, p.q) }
 
 func (f *fakeEngine) Ready(context.Context) error { return f.ready }
 

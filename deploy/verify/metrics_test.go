@@ -29,7 +29,12 @@ import (
 // that every collector of the server has something to show.
 type stubEngine struct{ notReady error }
 
-func (e *stubEngine) Query(context.Context, server.Query) (*server.Answer, error) {
+func (e *stubEngine) Prepare(server.Query) (server.Prepared, error) { return stubPrepared{}, nil }
+
+// stubPrepared is a query of stubEngine.
+type stubPrepared struct{}
+
+func (stubPrepared) Start(context.Context) (*server.Answer, error) {
 	return &server.Answer{Kind: results.Solutions, Solutions: emptySolutions{}}, nil
 }
 

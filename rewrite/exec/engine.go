@@ -7,6 +7,7 @@ import (
 
 	"veneer/catalog/source"
 	"veneer/rewrite"
+	"veneer/rewrite/algebra"
 )
 
 // Engine answers SPARQL query text from one catalog over one source.
@@ -25,6 +26,24 @@ func (e *Engine) Query(ctx context.Context, text string) (*Cursor, error) {
 // QueryRequest compiles and starts a query with what the protocol adds to it
 // (base IRI, dataset). The returned cursor must be closed.
 func (e *Engine) QueryRequest(ctx context.Context, r rewrite.Request) (*Cursor, error) {
+	p, err := e.Prepare(r)
+	if err != nil {
+		return nil, err
+	}
+	return p.Run(ctx)
+}
+
+// Prepared is a compiled query, ready to run on its engine's source.
+type Prepared struct {
+	e      *Engine
+	plan   *rewrite.Plan
+	took   time.Duration // parsing and planning
+	cached bool          // the plan came from the plan cache
+}
+
+// Prepare compiles a query with what the protocol adds to it (base IRI,
+// dataset). It reads nothing from the source.
+func (e *Engine) Prepare(r rewrite.Request) (*Prepared, error) {
 	start := time.Now()
 	p, cached, err := e.Planner.CompileRequest(r)
 	took := time.Since(start)
@@ -34,11 +53,20 @@ func (e *Engine) QueryRequest(ctx context.Context, r rewrite.Request) (*Cursor, 
 		}
 		return nil, &Error{Kind: BadQuery, Err: err}
 	}
-	c, err := e.Options.Run(ctx, e.Source, p)
+	return &Prepared{e: e, plan: p, took: took, cached: cached}, nil
+}
+
+// Form returns the query form, which says what the cursor Run returns
+// iterates over.
+func (p *Prepared) Form() algebra.Form { return p.plan.Form }
+
+// Run starts the query. The returned cursor must be closed.
+func (p *Prepared) Run(ctx context.Context) (*Cursor, error) {
+	c, err := p.e.Options.Run(ctx, p.e.Source, p.plan)
 	if err != nil {
 		return nil, classify(ctx, err)
 	}
-	c.compiled, c.cached = took, cached
+	c.compiled, c.cached = p.took, p.cached
 	return c, nil
 }
 
