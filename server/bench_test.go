@@ -25,7 +25,7 @@ func BenchmarkRequestOverhead(b *testing.B) {
 		answer func(ctx context.Context, q Query) (*Answer, error)
 	}{
 		{"ask", func(context.Context, Query) (*Answer, error) {
-			return &Answer{Kind: results.Boolean, Boolean: true}, nil
+			return &Answer{Kind: results.Boolean, Boolean: func() (bool, error) { return true, nil }}, nil
 		}},
 		{"select-1-row", rowsAnswer(1, -1)},
 	} {

@@ -13,11 +13,12 @@ import (
 // Engine answers SPARQL queries; FromExec adapts veneer's query engine. The
 // server calls it from many goroutines at once.
 type Engine interface {
-	// Prepare parses and plans q. It reads no source: the server admits a
-	// query to one of its query slots (see Limits) only once it is
-	// prepared, so that a query that does not parse costs no slot and a slot
-	// is held only while the sources are read. Errors carry an
-	// exec.ErrorKind (see exec.Error), which decides the HTTP status.
+	// Prepare parses and plans q. Neither it nor Prepared.Start reads a
+	// source: the answer's cursors and Boolean do. The server admits a query
+	// to one of its query slots (see Limits) only when it reads the answer,
+	// so that a query that does not parse costs no slot and a slot is held
+	// only while the sources are read. Errors carry an exec.ErrorKind (see
+	// exec.Error), which decides the HTTP status.
 	Prepare(q Query) (Prepared, error)
 	// Ready reports whether the engine can answer: its catalog is loaded and
 	// every source it reads answers.
@@ -26,9 +27,10 @@ type Engine interface {
 
 // Prepared is a query its engine has planned.
 type Prepared interface {
-	// Start starts answering the query. The context bounds the whole
-	// answer: the cursors of the Answer stop, and the SQL is cancelled, when
-	// it ends. Errors carry an exec.ErrorKind, as Prepare's do.
+	// Start readies the answer to the query, without reading a source. The
+	// context bounds the whole answer: the cursors of the Answer stop, and
+	// the SQL is cancelled, when it ends. Errors carry an exec.ErrorKind, as
+	// Prepare's do.
 	Start(ctx context.Context) (*Answer, error)
 }
 
@@ -54,8 +56,8 @@ type Answer struct {
 	Kind results.Kind
 	// Solutions holds the answer of a SELECT query.
 	Solutions Solutions
-	// Boolean holds the answer of an ASK query.
-	Boolean bool
+	// Boolean answers an ASK query; it reads the sources, once.
+	Boolean func() (bool, error)
 	// Graph holds the answer of a CONSTRUCT or DESCRIBE query.
 	Graph Triples
 	// Prefixes are the query's prefix declarations, which make a Turtle

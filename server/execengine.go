@@ -41,12 +41,10 @@ type execPrepared struct {
 	p *exec.Prepared
 }
 
-// Start implements Prepared.
+// Start implements Prepared. An ASK query runs when its Boolean is asked
+// for; the cursor of any other form runs its SQL when it is first advanced.
 func (x execPrepared) Start(ctx context.Context) (*Answer, error) {
-	c, err := x.p.Run(ctx)
-	if err != nil {
-		return nil, err
-	}
+	var c *exec.Cursor
 	a := &Answer{
 		// The cursor does not show its plan; planning again is cheap next to
 		// a query slow enough to be logged.
@@ -58,21 +56,32 @@ func (x execPrepared) Start(ctx context.Context) (*Answer, error) {
 			return []string{rewrite.Explain(p)}
 		},
 		Stats: func() Stats {
+			if c == nil {
+				return Stats{}
+			}
 			took, cached := c.Compilation()
 			return Stats{ResidualEvaluations: c.ResidualEvaluations(), Translation: took, PlanCached: cached}
 		},
 	}
-	switch c.Form() {
-	case algebra.Select:
-		a.Kind, a.Solutions = results.Solutions, c
-	case algebra.Ask:
-		a.Kind, a.Boolean = results.Boolean, c.Boolean()
-		err := c.Err()
-		c.Close()
-		if err != nil {
-			return nil, err
+	if x.p.Form() == algebra.Ask {
+		a.Kind = results.Boolean
+		a.Boolean = func() (bool, error) {
+			var err error
+			if c, err = x.p.Run(ctx); err != nil {
+				return false, err
+			}
+			defer c.Close()
+			return c.Boolean(), c.Err()
 		}
-	default:
+		return a, nil
+	}
+	c, err := x.p.Run(ctx)
+	if err != nil {
+		return nil, err
+	}
+	if c.Form() == algebra.Select {
+		a.Kind, a.Solutions = results.Solutions, c
+	} else {
 		a.Kind, a.Graph = results.Graph, c
 	}
 	return a, nil

@@ -2,11 +2,14 @@ package server
 
 import (
 	"context"
+	"errors"
 	"fmt"
 	"net/http"
 	"sync"
 	"sync/atomic"
 	"time"
+
+	"veneer/rewrite/exec"
 )
 
 // admission bounds how many queries run at once. A query beyond the limit
@@ -73,6 +76,9 @@ func (a *admission) acquire(ctx context.Context) error {
 		return &problem{status: http.StatusServiceUnavailable, retryAfter: retryAfter,
 			msg: fmt.Sprintf("the query waited %s for one of the %d query slots; try again shortly", a.wait, cap(a.slots))}
 	case <-ctx.Done():
+		if errors.Is(ctx.Err(), context.DeadlineExceeded) {
+			return &exec.Error{Kind: exec.Timeout, Err: errors.New("the query's time limit ran out while it waited for a query slot")}
+		}
 		return &problem{status: statusCanceled, msg: "the request was canceled while it waited", err: ctx.Err()}
 	}
 }
@@ -110,15 +116,15 @@ func (a *admission) release() {
 	}
 }
 
-// held is an admitted query's slot; release gives it back, once however
-// often it is called.
+// held is a query's slot once it is admitted (held is set); release gives
+// it back, once however often it is called, and does nothing before.
 type held struct {
-	a        *admission
-	released bool
+	a              *admission
+	held, released bool
 }
 
 func (h *held) release() {
-	if !h.released {
+	if h.held && !h.released {
 		h.released = true
 		h.a.release()
 	}

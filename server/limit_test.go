@@ -126,6 +126,29 @@ func TestQueueExpiryIsShared(t *testing.T) {
 	}
 }
 
+func TestTimeLimitRunsOutInTheQueue(t *testing.T) {
+	// One slot, held. A query whose client allows 50 ms waits in the queue
+	// (whose own timeout is a minute) and is stopped at its time limit,
+	// which counts from when it was planned: a timeout, not a queue refusal.
+	started, release := make(chan struct{}, 1), make(chan struct{})
+	defer close(release)
+	cfg := DefaultConfig()
+	cfg.Limits.MaxConcurrent, cfg.Limits.MaxQueued, cfg.Limits.QueueTimeout = 1, 4, time.Minute
+	env := newEnv(t, cfg, &fakeEngine{answer: blockingAnswer(started, release)})
+	go env.status("/sparql?query=q")
+	<-started
+	r := env.do(t, "GET", "/sparql?query=q&timeout=0.05", "")
+	if r.status != http.StatusServiceUnavailable || !strings.Contains(r.body, "time limit") {
+		t.Errorf("status %d %q; want 503 naming the time limit", r.status, r.body)
+	}
+	if m := env.metric(t, "veneer_query_timeouts_total"); m != "veneer_query_timeouts_total 1" {
+		t.Errorf("timeout not counted: %q", m)
+	}
+	if m := env.metric(t, `veneer_queries_rejected_total{reason="queue_timeout"}`); m != "" {
+		t.Errorf("counted as a queue refusal: %q", m)
+	}
+}
+
 func TestQueryTimeout(t *testing.T) {
 	// The client asks for 50 ms; the engine blocks until its context ends.
 	var deadline time.Time

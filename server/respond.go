@@ -47,10 +47,12 @@ func formatNames(k results.Kind) string {
 // writeAnswer streams an answer in format f and returns the number of
 // solutions or triples sent. An answer that is whole within the rows held
 // back (see holdRows) goes out in one write with its Content-Length, so that
-// the client has all of it at once; a longer one streams. read, when not nil,
-// is called once the answer has been read to its end, before the last of it
-// is sent.
-func (s *Server) writeAnswer(w http.ResponseWriter, a *Answer, f results.Format, read func()) (int64, error) {
+// the client has all of it at once; a longer one streams. admit is called
+// just before the answer is first read (which reads the sources), and its
+// error ends the answer before anything is sent; read, when not nil, is
+// called once the answer has been read to its end, before the last of it is
+// sent.
+func (s *Server) writeAnswer(w http.ResponseWriter, a *Answer, f results.Format, admit func() error, read func()) (int64, error) {
 	h := w.Header()
 	h.Set("Content-Type", f.ContentType())
 	h.Add("Vary", "Accept")
@@ -58,7 +60,14 @@ func (s *Server) writeAnswer(w http.ResponseWriter, a *Answer, f results.Format,
 	max := s.cfg.Limits.MaxRows
 	switch a.Kind {
 	case results.Boolean:
-		if err := results.WriteBoolean(f, out, a.Boolean); err != nil {
+		if err := admit(); err != nil {
+			return 0, err
+		}
+		b, err := a.Boolean()
+		if err != nil {
+			return 0, err
+		}
+		if err := results.WriteBoolean(f, out, b); err != nil {
 			return 0, err
 		}
 		return 0, out.whole()
@@ -69,7 +78,7 @@ func (s *Server) writeAnswer(w http.ResponseWriter, a *Answer, f results.Format,
 		}
 		cur := a.Solutions
 		begin := func() error { return sw.Begin(cur.Vars()) }
-		n, err := stream(cur, cur.Views, begin, sw.Views, sw.End, max, out)
+		n, err := stream(cur, cur.Views, begin, admit, sw.Views, sw.End, max, out)
 		return n, s.rowLimit(err, max, "solutions")
 	case results.Graph:
 		gw, err := results.NewGraphWriter(f, out, a.Prefixes)
@@ -77,7 +86,7 @@ func (s *Server) writeAnswer(w http.ResponseWriter, a *Answer, f results.Format,
 			return 0, err
 		}
 		cur := a.Graph
-		n, err := stream(cur, cur.Triple, gw.Begin, gw.Triple, gw.End, max, out)
+		n, err := stream(cur, cur.Triple, gw.Begin, admit, gw.Triple, gw.End, max, out)
 		return n, s.rowLimit(err, max, "triples")
 	}
 	return 0, fmt.Errorf("server: answer of unknown kind %v", a.Kind)
@@ -155,7 +164,8 @@ func (s *Server) rowLimit(err error, max int64, what string) error {
 	return tooLarge("the answer has more than %d %s, the most this endpoint returns; narrow the query or add a LIMIT", max, what)
 }
 
-// stream copies the rows of a cursor to a result writer (begin, put, end).
+// stream copies the rows of a cursor to a result writer (begin, put, end),
+// calling admit between begin and the first row.
 // What the writer writes stays in body until holdRows rows are in it, so a
 // failure, or an answer over max rows (when max > 0, errRowLimit), within
 // them leaves nothing sent, and any later failure leaves the document
@@ -164,8 +174,11 @@ func (s *Server) rowLimit(err error, max int64, what string) error {
 func stream[T any](cur interface {
 	Next() bool
 	Err() error
-}, row func() T, begin func() error, put func(T) error, end func() error, max int64, body *wholeOrStream) (int64, error) {
+}, row func() T, begin, admit func() error, put func(T) error, end func() error, max int64, body *wholeOrStream) (int64, error) {
 	if err := begin(); err != nil {
+		return 0, err
+	}
+	if err := admit(); err != nil {
 		return 0, err
 	}
 	var n int64

@@ -18,7 +18,7 @@ import (
 func kindsAnswer(ctx context.Context, q Query) (*Answer, error) {
 	switch q.Text {
 	case "ASK":
-		return &Answer{Kind: results.Boolean, Boolean: true}, nil
+		return &Answer{Kind: results.Boolean, Boolean: func() (bool, error) { return true, nil }}, nil
 	case "GRAPH":
 		ts := []rdf.Triple{
 			{S: rdf.IRI("http://example.org/t1"), P: rdf.RDFType, O: rdf.IRI("http://example.org/Turbine")},

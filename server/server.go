@@ -28,8 +28,9 @@ import (
 
 // Limits protect the sources. A zero value turns a limit off.
 type Limits struct {
-	// QueryTimeout bounds each query, SQL and streaming included; a client
-	// may ask for less with the timeout parameter, never for more.
+	// QueryTimeout bounds each query from when it is planned, the wait
+	// for a query slot, the SQL and streaming included; a client may ask
+	// for less with the timeout parameter, never for more.
 	QueryTimeout time.Duration
 	// MaxConcurrent is the number of queries that run at once.
 	MaxConcurrent int
@@ -202,16 +203,8 @@ func (s *Server) sparql(w http.ResponseWriter, r *http.Request) error {
 	if err != nil {
 		return s.failed(r.Context(), r.Context(), err)
 	}
-	if err := s.admission.acquire(r.Context()); err != nil {
-		return err
-	}
-	// The slot goes back once the answer is read, before the last of it is
-	// sent: a query that only waits on the client's network holds no slot.
-	slot := &held{a: s.admission}
-	defer slot.release()
 	ctx, cancel := s.queryContext(r.Context(), op)
 	defer cancel()
-	start := time.Now()
 	a, err := prep.Start(ctx)
 	if err != nil {
 		return s.failed(r.Context(), ctx, err)
@@ -221,9 +214,26 @@ func (s *Server) sparql(w http.ResponseWriter, r *http.Request) error {
 		a.Close()
 		return err
 	}
-	infoOf(w).format = f.Name()
-	n, err := s.writeAnswer(w, a, f, slot.release)
+	// Everything before the answer is first read is done without a slot,
+	// so that a slot is held only while the sources are read. It goes back
+	// once the answer is read, before the last of it is sent: a query that
+	// only waits on the client's network holds no slot.
+	slot := &held{a: s.admission}
+	defer slot.release()
+	var start time.Time
+	admit := func() error {
+		if err := s.admission.acquire(ctx); err != nil {
+			return err
+		}
+		slot.held, start = true, time.Now()
+		infoOf(w).format = f.Name()
+		return nil
+	}
+	n, err := s.writeAnswer(w, a, f, admit, slot.release)
 	a.Close()
+	if !slot.held {
+		return s.failed(r.Context(), ctx, err) // not admitted
+	}
 	d := time.Since(start)
 	km := s.metrics.ofKind(a.Kind)
 	km.duration.Observe(d.Seconds())

@@ -131,20 +131,38 @@ func (c *fakeCursor) Views() []rdf.View { return c.sol }
 func (c *fakeCursor) Err() error        { return c.err }
 func (c *fakeCursor) Close() error      { return nil }
 
-// blockingAnswer waits until the context ends or release is closed, then
-// answers one solution (or the context's error).
+// blockingAnswer answers one solution, which its cursor reads (as a real
+// engine reads its sources) only once release is closed; until then Next
+// waits, or fails when the context ends.
 func blockingAnswer(started chan<- struct{}, release <-chan struct{}) func(ctx context.Context, q Query) (*Answer, error) {
 	return func(ctx context.Context, q Query) (*Answer, error) {
-		if started != nil {
-			started <- struct{}{}
+		return &Answer{Kind: results.Solutions, Solutions: &blockingCursor{
+			fakeCursor: fakeCursor{ctx: ctx, n: 1, failAfter: -1}, started: started, release: release}}, nil
+	}
+}
+
+// blockingCursor is a fakeCursor whose first Next waits for release.
+type blockingCursor struct {
+	fakeCursor
+	started chan<- struct{}
+	release <-chan struct{}
+	waited  bool
+}
+
+func (c *blockingCursor) Next() bool {
+	if !c.waited {
+		c.waited = true
+		if c.started != nil {
+			c.started <- struct{}{}
 		}
 		select {
-		case <-release:
-		case <-ctx.Done():
-			return nil, ctx.Err()
+		case <-c.release:
+		case <-c.ctx.Done():
+			c.err = c.ctx.Err()
+			return false
 		}
-		return rowsAnswer(1, -1)(ctx, q)
 	}
+	return c.fakeCursor.Next()
 }
 
 // env is a server under test with the places it writes to. busy counts the
