@@ -200,8 +200,9 @@ func veneer(ctx context.Context, src source.Source) (*rewrite.Planner, http.Hand
 	planner := rewrite.NewPlanner(cat, cols, src.Dialect())
 	engine := &exec.Engine{Planner: planner, Source: src}
 	reg := prometheus.NewRegistry()
-	// The server logs as it does in production; the lines are dropped here.
-	log := slog.New(slog.NewTextHandler(io.Discard, nil))
+	// The server logs as it does in production, in JSON at level info (the
+	// defaults of `veneer serve`); the lines are dropped here.
+	log := slog.New(slog.NewJSONHandler(io.Discard, nil))
 	srv, err := server.New(server.DefaultConfig(), server.FromExec(engine), log, reg, reg)
 	if err != nil {
 		return nil, nil, err
