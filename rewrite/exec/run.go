@@ -26,7 +26,9 @@ type Options struct {
 	// MaxBuffered bounds the solutions (or, for CONSTRUCT and DESCRIBE, triples)
 	// that one in-process operator may hold in memory: the materialised side of
 	// a join, a sort, the groups of a grouping, the seen set of DISTINCT. A query
-	// that needs more fails with a TooLarge error. Zero means
+	// that needs more fails with a TooLarge error. It also bounds the rows a
+	// run reads ahead from open statements before it starts another (see
+	// park); past them the statement stays open. Zero means
 	// DefaultMaxBuffered.
 	MaxBuffered int
 	// Now fixes the value of NOW(); the zero time means the moment the run
@@ -78,6 +80,11 @@ type run struct {
 	serviceMax     int64
 
 	residual int64
+
+	// open are the scans whose statements are open, parked are the rows
+	// that park has read into memory (see park).
+	open   []*scanIter
+	parked int
 }
 
 func newRun(ctx context.Context, src source.Source, pp patternPlanner, o Options) (*run, error) {
@@ -186,6 +193,25 @@ func (r *run) regexp(pattern, flags string) (*compiledRegexp, error) {
 // tooLarge is the error of an operator that would buffer more than the limit.
 func (r *run) tooLarge(what string) error {
 	return &Error{Kind: TooLarge, Err: fmt.Errorf("%s holds more than %d solutions in memory (the limit on buffered solutions)", what, r.limit)}
+}
+
+// park reads the rest of the rows of every open statement into memory and
+// closes the statement; a scan calls it before it starts its own. A run so
+// holds one pooled connection at a time: queries that nest statements (an
+// in-process EXISTS, a join that reads one side while the other is open)
+// would otherwise each hold a connection while they wait for a second, and
+// with as many of them running as the pool has connections, every one would
+// wait until its time limit. The rows parked count against MaxBuffered; a
+// statement with more rows than that stays open for the rest, as it would
+// without parking.
+func (r *run) park() error {
+	for _, s := range r.open {
+		if err := s.rows.park(r); err != nil {
+			return err
+		}
+	}
+	r.open = r.open[:0] // parked, or left open for good
+	return nil
 }
 
 // fail gives an error that ends the iteration its kind: planner errors are the

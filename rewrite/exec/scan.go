@@ -2,6 +2,7 @@ package exec
 
 import (
 	"fmt"
+	"slices"
 
 	"veneer/catalog"
 	"veneer/catalog/rdf"
@@ -121,6 +122,10 @@ func (s *scanIter) advance() (bool, error) {
 			s.done = true // no triples map can answer: no SQL at all
 			return false, nil
 		}
+		if err := s.r.park(); err != nil {
+			s.done = true
+			return false, err
+		}
 		args := append([]any{source.Kinds(s.op.Kinds)}, s.op.Args...)
 		rows, err := s.r.src.Query(s.r.ctx, s.op.SQL, args...)
 		if err != nil {
@@ -128,6 +133,7 @@ func (s *scanIter) advance() (bool, error) {
 			return false, s.r.fail(fmt.Errorf("running the query's SQL: %w", err))
 		}
 		s.rows.start(rows)
+		s.r.open = append(s.r.open, s)
 	}
 	if s.rows.next() {
 		return true, nil
@@ -172,6 +178,7 @@ func (s *scanIter) close() {
 	if s.rows.rows != nil {
 		s.rows.rows.Close()
 		s.rows = rowReader{}
+		s.r.open = slices.DeleteFunc(s.r.open, func(o *scanIter) bool { return o == s })
 	}
 }
 
@@ -194,6 +201,83 @@ func (r *rowReader) start(rows source.Rows) {
 	for i, c := range cols {
 		r.kinds[i] = c.Kind
 	}
+}
+
+// park reads the current row and the rest of the statement's rows into
+// memory and closes the statement; the reader then reads them from there
+// (see run.park). A scan is open only while it has a current row. It reads
+// at most as many rows as the run may still buffer; past them the statement
+// stays open for the rest, and keeps its connection.
+func (r *rowReader) park(run *run) error {
+	kept := [][]any{slices.Clone(r.values())} // the current row stays current
+	more := false
+	for {
+		if run.parked >= run.limit {
+			more = true
+			break
+		}
+		if !r.rows.Next() {
+			break
+		}
+		run.parked++
+		kept = append(kept, slices.Clone(r.rows.Values()))
+	}
+	k := &keptRows{cols: r.rows.Columns(), rows: kept}
+	if more {
+		k.rest = r.rows
+	} else {
+		err := r.rows.Err()
+		r.rows.Close()
+		if err != nil {
+			return run.fail(fmt.Errorf("reading the query's rows: %w", err))
+		}
+	}
+	r.rows, r.text, r.vals = k, nil, nil
+	return nil
+}
+
+// keptRows are rows read into memory by park, followed by those of the
+// statement that park left open (rest), if any.
+type keptRows struct {
+	cols []source.Column
+	rows [][]any
+	at   int
+	rest source.Rows
+}
+
+func (k *keptRows) Columns() []source.Column { return k.cols }
+
+func (k *keptRows) Next() bool {
+	if k.at < len(k.rows) {
+		k.rows[k.at] = nil // read: its memory can go
+		k.at++
+	}
+	if k.at < len(k.rows) {
+		return true
+	}
+	return k.rest != nil && k.rest.Next()
+}
+
+func (k *keptRows) Values() []any {
+	if k.at < len(k.rows) {
+		return k.rows[k.at]
+	}
+	return k.rest.Values()
+}
+
+func (k *keptRows) Err() error {
+	if k.rest != nil {
+		return k.rest.Err()
+	}
+	return nil
+}
+
+func (k *keptRows) Close() error {
+	k.rows, k.at = nil, 0
+	if k.rest != nil {
+		return k.rest.Close()
+	}
+	return nil
 }
 
 func (r *rowReader) next() bool {
