@@ -116,15 +116,15 @@ func (a *admission) release() {
 	}
 }
 
-// held is a query's slot once it is admitted (held is set); release gives
-// it back, once however often it is called, and does nothing before.
+// held is a query's slot once it is admitted (admitted is set); release
+// gives it back, once however often it is called, and does nothing before.
 type held struct {
-	a              *admission
-	held, released bool
+	a                  *admission
+	admitted, released bool
 }
 
 func (h *held) release() {
-	if h.held && !h.released {
+	if h.admitted && !h.released {
 		h.released = true
 		h.a.release()
 	}

@@ -225,13 +225,13 @@ func (s *Server) sparql(w http.ResponseWriter, r *http.Request) error {
 		if err := s.admission.acquire(ctx); err != nil {
 			return err
 		}
-		slot.held, start = true, time.Now()
+		slot.admitted, start = true, time.Now()
 		infoOf(w).format = f.Name()
 		return nil
 	}
 	n, err := s.writeAnswer(w, a, f, admit, slot.release)
 	a.Close()
-	if !slot.held {
+	if !slot.admitted {
 		return s.failed(r.Context(), ctx, err) // not admitted
 	}
 	d := time.Since(start)
