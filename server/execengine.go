@@ -56,11 +56,12 @@ func (x execPrepared) Start(ctx context.Context) (*Answer, error) {
 			return []string{rewrite.Explain(p)}
 		},
 		Stats: func() Stats {
-			if c == nil {
-				return Stats{}
+			took, cached := x.p.Compilation()
+			st := Stats{Translation: took, PlanCached: cached}
+			if c != nil {
+				st.ResidualEvaluations = c.ResidualEvaluations()
 			}
-			took, cached := c.Compilation()
-			return Stats{ResidualEvaluations: c.ResidualEvaluations(), Translation: took, PlanCached: cached}
+			return st
 		},
 	}
 	if x.p.Form() == algebra.Ask {

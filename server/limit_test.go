@@ -126,6 +126,35 @@ func TestQueueExpiryIsShared(t *testing.T) {
 	}
 }
 
+func TestRefusedQueryCountsItsPlanLookup(t *testing.T) {
+	// A query refused by the concurrency limit was planned all the same: its
+	// plan cache lookup counts; nothing of it ran, so no SQL time does.
+	started, release := make(chan struct{}, 1), make(chan struct{})
+	defer close(release)
+	cfg := DefaultConfig()
+	cfg.Limits.MaxConcurrent, cfg.Limits.MaxQueued = 1, 0
+	blocking := blockingAnswer(started, release)
+	env := newEnv(t, cfg, &fakeEngine{answer: func(ctx context.Context, q Query) (*Answer, error) {
+		if q.Text == "hold" {
+			return blocking(ctx, q)
+		}
+		a, err := rowsAnswer(1, -1)(ctx, q)
+		a.Stats = func() Stats { return Stats{PlanCached: true, SQLDuration: time.Second} }
+		return a, err
+	}})
+	go env.status("/sparql?query=hold")
+	<-started
+	if r := env.do(t, "GET", "/sparql?query=q", ""); r.status != http.StatusServiceUnavailable {
+		t.Fatalf("a query beyond the limit: %d %q", r.status, r.body)
+	}
+	if m := env.metric(t, `veneer_plan_cache_lookups_total{result="hit"}`); !strings.HasSuffix(m, " 1") {
+		t.Errorf("the refused query's lookup: %q", m)
+	}
+	if m := env.metric(t, "veneer_sql_duration_seconds_count"); m != "veneer_sql_duration_seconds_count 0" {
+		t.Errorf("SQL time of a query that did not run: %q", m)
+	}
+}
+
 func TestTimeLimitRunsOutInTheQueue(t *testing.T) {
 	// One slot, held. A query whose client allows 50 ms waits in the queue
 	// (whose own timeout is a minute) and is stopped at its time limit,

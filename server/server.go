@@ -231,23 +231,27 @@ func (s *Server) sparql(w http.ResponseWriter, r *http.Request) error {
 	}
 	n, err := s.writeAnswer(w, a, f, admit, slot.release)
 	a.Close()
-	if !slot.admitted {
-		return s.failed(r.Context(), ctx, err) // not admitted
-	}
-	d := time.Since(start)
-	km := s.metrics.ofKind(a.Kind)
-	km.duration.Observe(d.Seconds())
-	km.rows.Add(float64(n))
+	var st Stats
 	if a.Stats != nil {
-		st := a.Stats()
-		s.metrics.sqlDuration.Observe(st.SQLDuration.Seconds())
-		s.metrics.residual.Add(float64(st.ResidualEvaluations))
+		// The query was planned whether or not it was admitted.
+		st = a.Stats()
 		s.metrics.translation.Observe(st.Translation.Seconds())
 		if st.PlanCached {
 			s.metrics.planHit.Inc()
 		} else {
 			s.metrics.planMiss.Inc()
 		}
+	}
+	if !slot.admitted {
+		return s.failed(r.Context(), ctx, err)
+	}
+	d := time.Since(start)
+	km := s.metrics.ofKind(a.Kind)
+	km.duration.Observe(d.Seconds())
+	km.rows.Add(float64(n))
+	if a.Stats != nil {
+		s.metrics.sqlDuration.Observe(st.SQLDuration.Seconds())
+		s.metrics.residual.Add(float64(st.ResidualEvaluations))
 	}
 	if s.cfg.SlowQuery > 0 && d >= s.cfg.SlowQuery {
 		s.logSlow(r.Context(), infoOf(w).id, op, a, d, n, err)

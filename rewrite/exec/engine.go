@@ -56,6 +56,10 @@ func (e *Engine) Prepare(r rewrite.Request) (*Prepared, error) {
 	return &Prepared{e: e, plan: p, took: took, cached: cached}, nil
 }
 
+// Compilation reports how long parsing and planning the query took, and
+// whether the plan cache served the plan.
+func (p *Prepared) Compilation() (time.Duration, bool) { return p.took, p.cached }
+
 // Form returns the query form, which says what the cursor Run returns
 // iterates over.
 func (p *Prepared) Form() algebra.Form { return p.plan.Form }
