@@ -19,9 +19,6 @@ import (
 	"github.com/go-chi/chi/v5"
 	"github.com/prometheus/client_golang/prometheus"
 
-	"veneer/catalog"
-	"veneer/catalog/r2rml"
-	"veneer/catalog/source"
 	"veneer/cmd/veneer/demo"
 	"veneer/rewrite"
 	"veneer/rewrite/exec"
@@ -57,24 +54,12 @@ const labelsQuery = "SELECT ?l WHERE { ?s <http://www.w3.org/2000/01/rdf-schema#
 func TestEveryRouteAndToken(t *testing.T) {
 	const token = "Rotor-7f3a.b9~Qz+token/x=="
 	ctx := context.Background()
-	path := filepath.Join(t.TempDir(), "demo.db")
-	if err := demo.BuildSQLite(ctx, path); err != nil {
-		t.Fatal(err)
-	}
-	src, err := source.Open(ctx, "sqlite:"+path)
+	d, err := demo.OpenSQLite(ctx, filepath.Join(t.TempDir(), "demo.db"))
 	if err != nil {
 		t.Fatal(err)
 	}
-	t.Cleanup(func() { src.Close() })
-	cat, err := r2rml.Load("demo/mapping.ttl", []byte(demo.Mapping()))
-	if err != nil {
-		t.Fatal(err)
-	}
-	cols, err := catalog.ProbeColumns(ctx, src, cat)
-	if err != nil {
-		t.Fatal(err)
-	}
-	engine := &countingEngine{Engine: FromExec(&exec.Engine{Planner: rewrite.NewPlanner(cat, cols, src.Dialect()), Source: src})}
+	t.Cleanup(func() { d.Source.Close() })
+	engine := &countingEngine{Engine: FromExec(&exec.Engine{Planner: rewrite.NewPlanner(d.Catalog, d.Columns, d.Source.Dialect()), Source: d.Source})}
 	cfg := DefaultConfig()
 	cfg.Tokens = NewTokens(token)
 	reg := prometheus.NewRegistry()

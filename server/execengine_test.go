@@ -6,8 +6,6 @@ import (
 	"sync/atomic"
 	"testing"
 
-	"veneer/catalog"
-	"veneer/catalog/r2rml"
 	"veneer/catalog/source"
 	"veneer/cmd/veneer/demo"
 	"veneer/rewrite"
@@ -30,25 +28,13 @@ func (c *countingSource) Query(ctx context.Context, sql string, args ...any) (so
 // reading the answer does (for ASK, Boolean; for the other forms, Next).
 func TestStartReadsNoSource(t *testing.T) {
 	ctx := context.Background()
-	path := filepath.Join(t.TempDir(), "demo.db")
-	if err := demo.BuildSQLite(ctx, path); err != nil {
-		t.Fatal(err)
-	}
-	src, err := source.Open(ctx, "sqlite:"+path)
+	d, err := demo.OpenSQLite(ctx, filepath.Join(t.TempDir(), "demo.db"))
 	if err != nil {
 		t.Fatal(err)
 	}
-	t.Cleanup(func() { src.Close() })
-	cat, err := r2rml.Load("demo/mapping.ttl", []byte(demo.Mapping()))
-	if err != nil {
-		t.Fatal(err)
-	}
-	cols, err := catalog.ProbeColumns(ctx, src, cat)
-	if err != nil {
-		t.Fatal(err)
-	}
-	counting := &countingSource{Source: src}
-	engine := FromExec(&exec.Engine{Planner: rewrite.NewPlanner(cat, cols, src.Dialect()), Source: counting})
+	t.Cleanup(func() { d.Source.Close() })
+	counting := &countingSource{Source: d.Source}
+	engine := FromExec(&exec.Engine{Planner: rewrite.NewPlanner(d.Catalog, d.Columns, d.Source.Dialect()), Source: counting})
 	const wf = "PREFIX wf: <https://vocab.veneer.example/windfarm#>\n"
 	for _, text := range []string{
 		wf + "ASK { ?w wf:onTurbine ?t }",

@@ -20,14 +20,13 @@ import (
 type admission struct {
 	slots    chan struct{} // one token per running query; nil: no limit
 	maxQueue int64
-	wait     time.Duration
-	expiry   expiry
+	expiry   expiry // the queue timeout
 	queued   atomic.Int64
 	m        *metrics
 }
 
 func newAdmission(l Limits, m *metrics) *admission {
-	a := &admission{maxQueue: int64(l.MaxQueued), wait: l.QueueTimeout, expiry: expiry{wait: l.QueueTimeout}, m: m}
+	a := &admission{maxQueue: int64(l.MaxQueued), expiry: expiry{wait: l.QueueTimeout}, m: m}
 	if l.MaxConcurrent > 0 {
 		a.slots = make(chan struct{}, l.MaxConcurrent)
 	}
@@ -64,7 +63,7 @@ func (a *admission) acquire(ctx context.Context) error {
 		a.m.queued.Dec()
 	}()
 	var timeout <-chan struct{}
-	if a.wait > 0 {
+	if a.expiry.wait > 0 {
 		timeout = a.expiry.after(time.Now())
 	}
 	select {
@@ -74,7 +73,7 @@ func (a *admission) acquire(ctx context.Context) error {
 	case <-timeout:
 		a.m.rejected.WithLabelValues("queue_timeout").Inc()
 		return &problem{status: http.StatusServiceUnavailable, retryAfter: retryAfter,
-			msg: fmt.Sprintf("the query waited %s for one of the %d query slots; try again shortly", a.wait, cap(a.slots))}
+			msg: fmt.Sprintf("the query waited %s for one of the %d query slots; try again shortly", a.expiry.wait, cap(a.slots))}
 	case <-ctx.Done():
 		if errors.Is(ctx.Err(), context.DeadlineExceeded) {
 			return &exec.Error{Kind: exec.Timeout, Err: errors.New("the query's time limit ran out while it waited for a query slot")}

@@ -57,14 +57,33 @@ func TestConcurrencyLimitAndQueue(t *testing.T) {
 	}
 }
 
-func TestQueueTimeout(t *testing.T) {
+// withSlotHeld starts a server with cfg and e and has the query "hold" take
+// one of its slots, and keep it until the test ends; e answers the others
+// (with one solution when it has no answer function).
+func withSlotHeld(t *testing.T, cfg Config, e *fakeEngine) *env {
+	t.Helper()
 	started, release := make(chan struct{}, 1), make(chan struct{})
-	defer close(release)
+	hold, other := blockingAnswer(started, release), e.answer
+	if other == nil {
+		other = rowsAnswer(1, -1)
+	}
+	e.answer = func(ctx context.Context, q Query) (*Answer, error) {
+		if q.Text == "hold" {
+			return hold(ctx, q)
+		}
+		return other(ctx, q)
+	}
+	env := newEnv(t, cfg, e)
+	t.Cleanup(func() { close(release) }) // before the server's own clean-up waits for it
+	go env.status("/sparql?query=hold")
+	<-started
+	return env
+}
+
+func TestQueueTimeout(t *testing.T) {
 	cfg := DefaultConfig()
 	cfg.Limits.MaxConcurrent, cfg.Limits.MaxQueued, cfg.Limits.QueueTimeout = 1, 4, 50*time.Millisecond
-	env := newEnv(t, cfg, &fakeEngine{answer: blockingAnswer(started, release)})
-	go env.status("/sparql?query=q")
-	<-started
+	env := withSlotHeld(t, cfg, &fakeEngine{})
 	r := env.do(t, "GET", "/sparql?query=q", "")
 	if r.status != http.StatusServiceUnavailable || r.header.Get("Retry-After") == "" || !strings.Contains(r.body, "waited 50ms") {
 		t.Errorf("queued query: %d %q", r.status, r.body)
@@ -78,21 +97,14 @@ func TestQueryThatDoesNotPrepareTakesNoSlot(t *testing.T) {
 	// One slot, held, and no queue: a well-formed query is refused with 503,
 	// while one its engine cannot prepare is told why with 400 at once,
 	// since it would never read a source.
-	started, release := make(chan struct{}, 1), make(chan struct{})
-	defer close(release)
 	cfg := DefaultConfig()
 	cfg.Limits.MaxConcurrent, cfg.Limits.MaxQueued = 1, 0
-	env := newEnv(t, cfg, &fakeEngine{
-		answer: blockingAnswer(started, release),
-		prepare: func(q Query) error {
-			if q.Text == "bad" {
-				return &exec.Error{Kind: exec.BadQuery, Err: errors.New("syntax error at 1:1")}
-			}
-			return nil
-		},
-	})
-	go env.status("/sparql?query=q")
-	<-started
+	env := withSlotHeld(t, cfg, &fakeEngine{prepare: func(q Query) error {
+		if q.Text == "bad" {
+			return &exec.Error{Kind: exec.BadQuery, Err: errors.New("syntax error at 1:1")}
+		}
+		return nil
+	}})
 	if r := env.do(t, "GET", "/sparql?query=bad", ""); r.status != http.StatusBadRequest || !strings.Contains(r.body, "syntax error at 1:1") {
 		t.Errorf("a query that does not prepare: %d %q", r.status, r.body)
 	}
@@ -129,21 +141,13 @@ func TestQueueExpiryIsShared(t *testing.T) {
 func TestRefusedQueryCountsItsPlanLookup(t *testing.T) {
 	// A query refused by the concurrency limit was planned all the same: its
 	// plan cache lookup counts; nothing of it ran, so no SQL time does.
-	started, release := make(chan struct{}, 1), make(chan struct{})
-	defer close(release)
 	cfg := DefaultConfig()
 	cfg.Limits.MaxConcurrent, cfg.Limits.MaxQueued = 1, 0
-	blocking := blockingAnswer(started, release)
-	env := newEnv(t, cfg, &fakeEngine{answer: func(ctx context.Context, q Query) (*Answer, error) {
-		if q.Text == "hold" {
-			return blocking(ctx, q)
-		}
+	env := withSlotHeld(t, cfg, &fakeEngine{answer: func(ctx context.Context, q Query) (*Answer, error) {
 		a, err := rowsAnswer(1, -1)(ctx, q)
 		a.Stats = func() Stats { return Stats{PlanCached: true, SQLDuration: time.Second} }
 		return a, err
 	}})
-	go env.status("/sparql?query=hold")
-	<-started
 	if r := env.do(t, "GET", "/sparql?query=q", ""); r.status != http.StatusServiceUnavailable {
 		t.Fatalf("a query beyond the limit: %d %q", r.status, r.body)
 	}
@@ -159,13 +163,9 @@ func TestTimeLimitRunsOutInTheQueue(t *testing.T) {
 	// One slot, held. A query whose client allows 50 ms waits in the queue
 	// (whose own timeout is a minute) and is stopped at its time limit,
 	// which counts from when it was planned: a timeout, not a queue refusal.
-	started, release := make(chan struct{}, 1), make(chan struct{})
-	defer close(release)
 	cfg := DefaultConfig()
 	cfg.Limits.MaxConcurrent, cfg.Limits.MaxQueued, cfg.Limits.QueueTimeout = 1, 4, time.Minute
-	env := newEnv(t, cfg, &fakeEngine{answer: blockingAnswer(started, release)})
-	go env.status("/sparql?query=q")
-	<-started
+	env := withSlotHeld(t, cfg, &fakeEngine{})
 	r := env.do(t, "GET", "/sparql?query=q&timeout=0.05", "")
 	if r.status != http.StatusServiceUnavailable || !strings.Contains(r.body, "time limit") {
 		t.Errorf("status %d %q; want 503 naming the time limit", r.status, r.body)

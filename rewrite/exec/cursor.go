@@ -25,7 +25,6 @@ import (
 	"errors"
 	"fmt"
 	"slices"
-	"time"
 
 	"veneer/catalog/rdf"
 	"veneer/catalog/source"
@@ -74,10 +73,6 @@ type Cursor struct {
 
 	err  error
 	done bool
-
-	// compiled and cached: see Compilation.
-	compiled time.Duration
-	cached   bool
 }
 
 // Run starts a plan on src with the default Options.
@@ -283,11 +278,6 @@ func (c *Cursor) Close() error {
 	}
 	return nil
 }
-
-// Compilation reports how long parsing and planning the cursor's query took
-// and whether the plan cache served its plan; zero for a cursor started from
-// a plan (Run).
-func (c *Cursor) Compilation() (time.Duration, bool) { return c.compiled, c.cached }
 
 // ResidualEvaluations counts the solutions that in-process operators have
 // taken in so far (a Filter testing one, a join reading one from either side,

@@ -70,7 +70,6 @@ func (p *Prepared) Run(ctx context.Context) (*Cursor, error) {
 	if err != nil {
 		return nil, classify(ctx, err)
 	}
-	c.compiled, c.cached = p.took, p.cached
 	return c, nil
 }
 

@@ -111,11 +111,15 @@ func TestShapeCacheAnswers(t *testing.T) {
 // returns its solutions, sorted, and whether the cache served the plan.
 func answerCached(t *testing.T, e *exec.Engine, text string) ([]string, bool) {
 	t.Helper()
-	c, err := e.Query(context.Background(), text)
+	p, err := e.Prepare(rewrite.Request{Text: text})
 	if err != nil {
 		t.Fatalf("%v\n%s", err, text)
 	}
-	_, cached := c.Compilation()
+	_, cached := p.Compilation()
+	c, err := p.Run(context.Background())
+	if err != nil {
+		t.Fatal(err)
+	}
 	return drain(t, c), cached
 }
 
