@@ -9,6 +9,8 @@ import (
 	"sync/atomic"
 	"time"
 
+	"github.com/prometheus/client_golang/prometheus"
+
 	"veneer/rewrite/exec"
 )
 
@@ -21,15 +23,33 @@ type admission struct {
 	slots    chan struct{} // one token per running query; nil: no limit
 	maxQueue int64
 	expiry   expiry // the queue timeout
-	queued   atomic.Int64
-	m        *metrics
+	// running and queued count the queries admitted and waiting; their
+	// gauges read them when scraped, so that a query updates no metric
+	// on its way in and out.
+	running, queued atomic.Int64
+	m               *metrics
 }
 
-func newAdmission(l Limits, m *metrics) *admission {
+// newAdmission returns the admission for limits l, its gauges registered
+// with reg.
+func newAdmission(l Limits, m *metrics, reg prometheus.Registerer) *admission {
 	a := &admission{maxQueue: int64(l.MaxQueued), expiry: expiry{wait: l.QueueTimeout}, m: m}
 	if l.MaxConcurrent > 0 {
 		a.slots = make(chan struct{}, l.MaxConcurrent)
 	}
+	reg.MustRegister(
+		prometheus.NewGaugeFunc(prometheus.GaugeOpts{
+			Name: "veneer_queries_in_flight",
+			Help: "Queries running now.",
+		}, func() float64 { return float64(a.running.Load()) }),
+		prometheus.NewGaugeFunc(prometheus.GaugeOpts{
+			Name: "veneer_queries_queued",
+			Help: "Queries waiting for a query slot now.",
+		}, func() float64 {
+			// A query turned away at a full queue counts itself for a moment.
+			return float64(min(a.queued.Load(), a.maxQueue))
+		}),
+	)
 	return a
 }
 
@@ -42,12 +62,12 @@ const retryAfter = time.Second
 // give it back with release.
 func (a *admission) acquire(ctx context.Context) error {
 	if a.slots == nil {
-		a.m.inFlight.Inc()
+		a.running.Add(1)
 		return nil
 	}
 	select {
 	case a.slots <- struct{}{}:
-		a.m.inFlight.Inc()
+		a.running.Add(1)
 		return nil
 	default:
 	}
@@ -57,18 +77,14 @@ func (a *admission) acquire(ctx context.Context) error {
 		return &problem{status: http.StatusServiceUnavailable, retryAfter: retryAfter,
 			msg: fmt.Sprintf("the server is at its limit of %d running and %d waiting queries; try again shortly", cap(a.slots), a.maxQueue)}
 	}
-	a.m.queued.Inc()
-	defer func() {
-		a.queued.Add(-1)
-		a.m.queued.Dec()
-	}()
+	defer a.queued.Add(-1)
 	var timeout <-chan struct{}
 	if a.expiry.wait > 0 {
 		timeout = a.expiry.after(time.Now())
 	}
 	select {
 	case a.slots <- struct{}{}:
-		a.m.inFlight.Inc()
+		a.running.Add(1)
 		return nil
 	case <-timeout:
 		a.m.rejected.WithLabelValues("queue_timeout").Inc()
@@ -109,7 +125,7 @@ func (e *expiry) after(now time.Time) <-chan struct{} {
 
 // release gives back the slot of a query that acquire admitted.
 func (a *admission) release() {
-	a.m.inFlight.Dec()
+	a.running.Add(-1)
 	if a.slots != nil {
 		<-a.slots
 	}

@@ -1,6 +1,10 @@
 package server
 
 import (
+	"strconv"
+	"sync"
+	"time"
+
 	"github.com/prometheus/client_golang/prometheus"
 
 	"veneer/server/results"
@@ -14,8 +18,6 @@ type metrics struct {
 	queryDuration  *prometheus.HistogramVec
 	sqlDuration    prometheus.Histogram
 	rows           *prometheus.CounterVec
-	inFlight       prometheus.Gauge
-	queued         prometheus.Gauge
 	rejected       *prometheus.CounterVec
 	timeouts       prometheus.Counter
 	residual       prometheus.Counter
@@ -29,6 +31,36 @@ type metrics struct {
 	// up once: by answer kind, and the plan cache's two results.
 	kinds             map[results.Kind]kindMetrics
 	planHit, planMiss prometheus.Counter
+	// The children of requests and duration by their labels, looked up
+	// once each (a label lookup hashes every value, at every request).
+	requestChildren sync.Map // requestLabels → requestMetrics
+}
+
+// requestLabels are the labels of a request's metrics.
+type requestLabels struct {
+	route  string
+	status int
+	format string
+}
+
+// requestMetrics are the metrics of the requests of one requestLabels.
+type requestMetrics struct {
+	count    prometheus.Counter
+	duration prometheus.Observer
+}
+
+// request counts a finished request and observes its duration d.
+func (m *metrics) request(l requestLabels, d time.Duration) {
+	v, ok := m.requestChildren.Load(l)
+	if !ok {
+		v, _ = m.requestChildren.LoadOrStore(l, requestMetrics{
+			count:    m.requests.WithLabelValues(l.route, strconv.Itoa(l.status), l.format),
+			duration: m.duration.WithLabelValues(l.route),
+		})
+	}
+	rm := v.(requestMetrics)
+	rm.count.Inc()
+	rm.duration.Observe(d.Seconds())
 }
 
 // kindMetrics are the metrics of the queries of one answer kind.
@@ -74,14 +106,6 @@ func newMetrics(reg prometheus.Registerer) *metrics {
 			Name: "veneer_rows_streamed_total",
 			Help: "Solutions and triples written to clients, by answer kind.",
 		}, []string{"kind"}),
-		inFlight: prometheus.NewGauge(prometheus.GaugeOpts{
-			Name: "veneer_queries_in_flight",
-			Help: "Queries running now.",
-		}),
-		queued: prometheus.NewGauge(prometheus.GaugeOpts{
-			Name: "veneer_queries_queued",
-			Help: "Queries waiting for a query slot now.",
-		}),
 		rejected: prometheus.NewCounterVec(prometheus.CounterOpts{
 			Name: "veneer_queries_rejected_total",
 			Help: "Queries turned away with 503 because of the concurrency limit: queue_full or queue_timeout.",
@@ -122,8 +146,7 @@ func newMetrics(reg prometheus.Registerer) *metrics {
 		m.kinds[k] = kindMetrics{m.queryDuration.WithLabelValues(k.String()), m.rows.WithLabelValues(k.String())}
 	}
 	m.planHit, m.planMiss = m.planCache.WithLabelValues("hit"), m.planCache.WithLabelValues("miss")
-	reg.MustRegister(m.requests, m.duration, m.queryDuration, m.sqlDuration, m.rows, m.inFlight,
-		m.queued, m.rejected, m.timeouts, m.residual, m.streamFailures, m.rowLimit, m.reloads,
+	reg.MustRegister(m.requests, m.duration, m.queryDuration, m.sqlDuration, m.rows, m.rejected, m.timeouts, m.residual, m.streamFailures, m.rowLimit, m.reloads,
 		m.translation, m.planCache)
 	return m
 }

@@ -118,7 +118,7 @@ type engineBox struct{ Engine }
 func New(cfg Config, engine Engine, log *slog.Logger, reg prometheus.Registerer, gather prometheus.Gatherer) (*Server, error) {
 	s := &Server{cfg: cfg, log: log, metrics: newMetrics(reg), gather: gather}
 	s.engine.Store(&engineBox{engine})
-	s.admission = newAdmission(cfg.Limits, s.metrics)
+	s.admission = newAdmission(cfg.Limits, s.metrics, reg)
 	s.auth.tokens.Store(cfg.Tokens)
 	reg.MustRegister(newPoolCollector(s.currentEngine))
 	co := cfg.Console
@@ -302,7 +302,7 @@ const slowLogText = 8 << 10
 func (s *Server) logSlow(ctx context.Context, id string, op *operation, a *Answer, d time.Duration, rows int64, err error) {
 	attrs := []slog.Attr{
 		slog.String("request_id", id),
-		slog.Float64("duration_ms", float64(d.Microseconds())/1000),
+		slog.Int64("duration_us", d.Microseconds()),
 		slog.Int64("rows", rows),
 		slog.String("kind", a.Kind.String()),
 		slog.String("query", clip(op.query.Text)),

@@ -132,12 +132,12 @@ func benchmark(ctx context.Context, t gen.Target, o benchOptions, progress io.Wr
 			return nil, err
 		}
 	}
-	veneerURL, stopVeneer, err := listen(handler)
+	veneerURL, stopVeneer, err := listen("veneer", handler)
 	if err != nil {
 		return nil, err
 	}
 	defer stopVeneer()
-	twinURL, stopTwin, err := listen(twin.Handler(src, queries, server.DefaultConfig().Limits.QueryTimeout))
+	twinURL, stopTwin, err := listen("twin", twin.Handler(src, queries, server.DefaultConfig().Limits.QueryTimeout))
 	if err != nil {
 		return nil, err
 	}
@@ -211,13 +211,13 @@ func veneer(ctx context.Context, src source.Source) (*rewrite.Planner, http.Hand
 }
 
 // listen serves h on a loopback port and returns its base URL.
-func listen(h http.Handler) (string, func(), error) {
+func listen(name string, h http.Handler) (string, func(), error) {
 	ln, err := net.Listen("tcp", "127.0.0.1:0")
 	if err != nil {
 		return "", nil, err
 	}
 	hs := &http.Server{Handler: h, ReadHeaderTimeout: 10 * time.Second}
-	go hs.Serve(ln)
+	go pprof.Do(context.Background(), pprof.Labels("server", name), func(context.Context) { hs.Serve(ln) })
 	stop := func() {
 		ctx, cancel := context.WithTimeout(context.Background(), 5*time.Second)
 		defer cancel()

@@ -20,10 +20,9 @@ type valuesLookup struct {
 	shared []int        // the slots both the scan and the block bind
 	slots  []int        // the block's slots, in the order of its rows
 	rows   [][]rdf.View // the block's rows as views, by its slots
-	// keys holds each row's key over the shared slots, row i's ending at
-	// ends[i]; a block of more than lookupScan rows is also indexed by key.
-	keys  []byte
-	ends  []int
+	// index holds, for a block of more than lookupScan rows, the rows of
+	// each key over the shared slots; a smaller block is compared row by
+	// row.
 	index map[string][]int
 	key   []byte
 	scan  []rdf.View // the current scan row, by slot
@@ -31,8 +30,8 @@ type valuesLookup struct {
 	found []int      // match's memory
 }
 
-// lookupScan is the most rows of a block that a scan row compares its key
-// with one by one; larger blocks get a hash index.
+// lookupScan is the most rows of a block that a scan row is compared with
+// one by one; larger blocks get a hash index.
 const lookupScan = 32
 
 // newValuesLookup returns the lookup for a join of a scan with the block of
@@ -56,7 +55,7 @@ func newValuesLookup(r *run, v *valuesIter, shared []int, width int) *valuesLook
 		}
 	}
 	lk := &valuesLookup{r: r, shared: shared, slots: v.slots, scan: make([]rdf.View, width),
-		rows: make([][]rdf.View, len(v.rows)), ends: make([]int, len(v.rows))}
+		rows: make([][]rdf.View, len(v.rows))}
 	buf := make([]byte, 0, size) // the views' text, never grown: views stay valid
 	all := make([]rdf.View, len(v.rows)*len(v.slots))
 	for i, row := range v.rows {
@@ -65,16 +64,15 @@ func newValuesLookup(r *run, v *valuesIter, shared []int, width int) *valuesLook
 			views[c], buf = rdf.AppendView(buf, t)
 		}
 		lk.rows[i] = views
-		for _, c := range cols {
-			lk.keys = appendViewKey(lk.keys, views[c])
-		}
-		lk.ends[i] = len(lk.keys)
 	}
 	if len(v.rows) > lookupScan {
 		lk.index = make(map[string][]int, len(v.rows))
-		for i := range lk.rows {
-			k := string(lk.rowKey(i))
-			lk.index[k] = append(lk.index[k], i)
+		for i, views := range lk.rows {
+			lk.key = lk.key[:0]
+			for _, c := range cols {
+				lk.key = appendViewKey(lk.key, views[c])
+			}
+			lk.index[string(lk.key)] = append(lk.index[string(lk.key)], i)
 		}
 	}
 	r.residual += int64(len(lk.rows)) // the join reads each row of its right side
@@ -92,14 +90,6 @@ func termSize(t rdf.Term) int {
 		return len(t.Lexical)
 	}
 	return 0
-}
-
-// rowKey is block row i's key over the shared slots.
-func (lk *valuesLookup) rowKey(i int) []byte {
-	if i == 0 {
-		return lk.keys[:lk.ends[0]]
-	}
-	return lk.keys[lk.ends[i-1]:lk.ends[i]]
 }
 
 // next reads the next joined solution into dst, by slot, reading scan rows
@@ -127,10 +117,13 @@ func (lk *valuesLookup) next(scan *scanIter, dst []rdf.View, buf []byte) (bool, 
 	return true, buf, nil
 }
 
-// partners lists the block rows compatible with the current scan row: those
-// of its key, or, when the scan leaves a shared slot unbound, every row that
-// agrees on the slots it binds (SPARQL 1.1 Query §18.5, compatible mappings).
+// partners lists the block rows compatible with the current scan row (SPARQL
+// 1.1 Query §18.5, compatible mappings): those of its key in the index of a
+// large block, or else every row that agrees on the slots the scan binds.
 func (lk *valuesLookup) partners() []int {
+	if lk.index == nil {
+		return lk.agreeing()
+	}
 	lk.key = lk.key[:0]
 	for _, s := range lk.shared {
 		if lk.scan[s].Kind == 0 {
@@ -138,17 +131,7 @@ func (lk *valuesLookup) partners() []int {
 		}
 		lk.key = appendViewKey(lk.key, lk.scan[s])
 	}
-	if lk.index != nil {
-		return lk.index[string(lk.key)]
-	}
-	out := lk.found[:0]
-	for i := range lk.rows {
-		if bytes.Equal(lk.rowKey(i), lk.key) {
-			out = append(out, i)
-		}
-	}
-	lk.found = out
-	return out
+	return lk.index[string(lk.key)]
 }
 
 func (lk *valuesLookup) agreeing() []int {

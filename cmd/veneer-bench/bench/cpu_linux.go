@@ -15,13 +15,22 @@ const userHZ = 100
 
 // sampleCPU reads the CPU time this process and the whole machine have used.
 func sampleCPU() cpuSample {
-	var ru syscall.Rusage
-	if err := syscall.Getrusage(syscall.RUSAGE_SELF, &ru); err != nil {
+	process := ProcessCPU()
+	if process == 0 {
 		return cpuSample{}
 	}
-	process := time.Duration(ru.Utime.Nano() + ru.Stime.Nano())
 	machine, ok := machineBusy()
 	return cpuSample{process: process, machine: machine, ok: ok}
+}
+
+// ProcessCPU is the user and system CPU time this process has used; 0 when
+// it cannot be read.
+func ProcessCPU() time.Duration {
+	var ru syscall.Rusage
+	if err := syscall.Getrusage(syscall.RUSAGE_SELF, &ru); err != nil {
+		return 0
+	}
+	return time.Duration(ru.Utime.Nano() + ru.Stime.Nano())
 }
 
 // machineBusy sums the busy columns of /proc/stat's "cpu" line: user, nice,
