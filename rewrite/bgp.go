@@ -15,7 +15,7 @@ import (
 // candidate is a producer with the graph map it is read through (nil in the
 // service's default graph), and the graph IRIs that map must produce (nil: any).
 type candidate struct {
-	p     producer
+	p     *producer // one of the planner's
 	graph *catalog.TermMap
 	only  []rdf.IRI
 }
@@ -28,13 +28,13 @@ type candidate struct {
 func (q *query) candidates(graph algebra.Item) []candidate {
 	ds := q.dataset
 	given := len(ds.Default) > 0 || len(ds.Named) > 0
+	if graph == nil && !given {
+		return q.pl.inDefault
+	}
 	var out []candidate
-	for _, p := range q.pl.producers {
+	for i := range q.pl.producers {
+		p := &q.pl.producers[i]
 		switch {
-		case graph == nil && !given:
-			if p.inDefaultGraph() {
-				out = append(out, candidate{p: p})
-			}
 		case graph == nil:
 			out = append(out, named(p, ds.Default, true)...)
 		case !given:
@@ -48,7 +48,7 @@ func (q *query) candidates(graph algebra.Item) []candidate {
 
 // named lists the producer's named-graph candidates, restricted, when restrict
 // is set, to the graphs only lists.
-func named(p producer, only []rdf.IRI, restrict bool) []candidate {
+func named(p *producer, only []rdf.IRI, restrict bool) []candidate {
 	if restrict && len(only) == 0 {
 		return nil
 	}
@@ -488,7 +488,7 @@ func prefixCompatible(a, b catalog.Template) bool {
 // only joined columns, so each child row with non-NULL join columns has exactly
 // one parent row, whose subject is built from values the child row holds.
 // SQLite enforces foreign keys only when asked to, so there the join stays.
-func (q *query) fkObject(pr producer, child string) (occurrence, bool) {
+func (q *query) fkObject(pr *producer, child string) (occurrence, bool) {
 	if pr.parent == nil || len(pr.joins) == 0 || q.pl.dialect == source.SQLite ||
 		pr.tm.Table.Query != "" || pr.parent.Table.Query != "" {
 		return occurrence{}, false
@@ -581,7 +581,7 @@ func mayProduce(m catalog.TermMap, it algebra.Item) bool {
 
 // isTypeOf reports whether the pattern asks for rdf:type and the producer makes
 // rdf:type triples, so that the class can be compared early.
-func isTypeOf(p producer, t algebra.Triple) bool {
+func isTypeOf(p *producer, t algebra.Triple) bool {
 	c, ok := t.P.(algebra.Const)
 	return ok && c.Term == rdf.RDFType && p.predicate.Kind == catalog.Constant && p.predicate.Constant == rdf.RDFType
 }

@@ -1,7 +1,6 @@
 package rewrite
 
 import (
-	"fmt"
 	"strings"
 
 	"veneer/catalog"
@@ -618,7 +617,7 @@ func rowsCondition(rows [][]sql.Expr) sql.Expr {
 			list = nil
 			break
 		}
-		if _, isParam := eq.R.(sql.Param); !isParam || (col != nil && !sameExpr(col, eq.L)) {
+		if _, isParam := eq.R.(sql.Param); !isParam || (col != nil && !sql.Same(col, eq.L)) {
 			list = nil
 			break
 		}
@@ -637,17 +636,6 @@ func rowsCondition(rows [][]sql.Expr) sql.Expr {
 		opts = append(opts, c)
 	}
 	return or(opts...)
-}
-
-// sameExpr compares two expressions: column references directly, others by
-// their printed form.
-func sameExpr(a, b sql.Expr) bool {
-	ca, aok := a.(sql.ColumnRef)
-	cb, bok := b.(sql.ColumnRef)
-	if aok && bok {
-		return ca == cb
-	}
-	return fmt.Sprintf("%#v", a) == fmt.Sprintf("%#v", b)
 }
 
 // nullAble copies occurrences read through an outer join: their columns may be
@@ -812,9 +800,10 @@ func onlyWhen(o occurrence, cond sql.Expr) occurrence {
 	return o
 }
 
-// sameConds compares two conditions by their printed form.
+// sameConds reports whether a and b are the same condition; no condition is
+// the same as another.
 func sameConds(a, b sql.Expr) bool {
-	return a != nil && b != nil && fmt.Sprintf("%#v", a) == fmt.Sprintf("%#v", b)
+	return a != nil && b != nil && sql.Same(a, b)
 }
 
 // readsTable reports whether an occurrence reads a column of the FROM alias.

@@ -1,9 +1,9 @@
 package rewrite
 
 import (
-	"fmt"
 	"maps"
 	"slices"
+	"strings"
 
 	"veneer/catalog"
 	"veneer/catalog/source"
@@ -24,16 +24,19 @@ import (
 func (q *query) unique(r *rel) bool {
 	seen := map[string]bool{}
 	for _, b := range r.branches {
-		sig := ""
+		var sig strings.Builder
 		for _, v := range r.vars {
 			for _, o := range b.vars[v].alts {
-				sig += fmt.Sprintf("%s=%s;", v, groupKey(o))
+				sig.WriteString(string(v))
+				sig.WriteByte('=')
+				sig.WriteString(groupKey(o))
+				sig.WriteByte(';')
 			}
 		}
-		if seen[sig] {
+		if seen[sig.String()] {
 			return false
 		}
-		seen[sig] = true
+		seen[sig.String()] = true
 		if !q.determined(b) {
 			return false
 		}
@@ -213,7 +216,7 @@ func (q *query) sameRowPair(b *branch) (string, string, bool) {
 	values := map[sql.ColumnRef][]string{}
 	for _, e := range eqs {
 		if e.param {
-			values[e.l] = append(values[e.l], fmt.Sprintf("%T:%v", e.value, e.value))
+			values[e.l] = append(values[e.l], string(sql.AppendKey(nil, sql.Param{Value: e.value})))
 		}
 	}
 	sameValue := func(l, r sql.ColumnRef) bool {

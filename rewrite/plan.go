@@ -101,6 +101,10 @@ type Planner struct {
 	cols      *catalog.Columns
 	dialect   source.Dialect
 	producers []producer
+	// inDefault are the candidates of a pattern in the default graph when
+	// the query names no dataset, the common case: the producers of the
+	// default graph. Read only.
+	inDefault []candidate
 	limits    Limits
 	// keys are the column sets that determine a row, and tables the logical
 	// tables, by logical table key.
@@ -120,6 +124,11 @@ func NewPlanner(cat *catalog.Catalog, cols *catalog.Columns, d source.Dialect) *
 	pl := &Planner{cat: cat, cols: cols, dialect: d, producers: producersOf(cat),
 		limits: DefaultLimits(), keys: map[string][][]string{}, tables: map[string]catalog.LogicalTable{},
 		cache: newPlanCache(planCacheSize)}
+	for i := range pl.producers {
+		if p := &pl.producers[i]; p.inDefaultGraph() {
+			pl.inDefault = append(pl.inDefault, candidate{p: p})
+		}
+	}
 	for _, tm := range cat.Maps {
 		pl.keys[tm.Table.Key()] = cols.Keys(tm.Table)
 		pl.tables[tm.Table.Key()] = tm.Table

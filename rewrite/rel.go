@@ -2,6 +2,7 @@ package rewrite
 
 import (
 	"fmt"
+	"strconv"
 	"strings"
 
 	"veneer/catalog"
@@ -127,7 +128,7 @@ type query struct {
 
 func (q *query) alias(prefix string) string {
 	q.seq++
-	return fmt.Sprintf("%s%d", prefix, q.seq)
+	return prefix + strconv.Itoa(q.seq)
 }
 
 // closed is a relation turned into one statement, with how to read its columns.
@@ -158,28 +159,32 @@ type modifiers struct {
 // they share result columns across union branches (and DISTINCT sees them as one).
 func groupKey(o occurrence) string {
 	m := o.m
-	var b strings.Builder
-	fmt.Fprintf(&b, "%d/%d/%s/%s/", m.Kind, m.TermType, m.Datatype, strings.ToLower(m.Language))
+	b := make([]byte, 0, 64)
+	b = strconv.AppendInt(b, int64(m.Kind), 10)
+	b = strconv.AppendInt(append(b, '/'), int64(m.TermType), 10)
+	b = append(append(b, '/'), m.Datatype...)
+	b = append(append(b, '/'), strings.ToLower(m.Language)...)
+	b = append(b, '/')
 	kinds := o.cols
 	switch m.Kind {
 	case catalog.Constant:
-		b.WriteString(m.Constant.String())
+		b = append(b, m.Constant.String()...)
 	case catalog.Column:
-		fmt.Fprintf(&b, "%d", kinds[0].Kind)
+		b = strconv.AppendInt(b, int64(kinds[0].Kind), 10)
 	case catalog.TemplateMap:
-		i := 0
 		for _, p := range m.Template.Parts {
 			if p.Column == "" {
-				fmt.Fprintf(&b, "%q", p.Text)
+				b = strconv.AppendQuote(b, p.Text)
 				continue
 			}
 			// Template columns are listed once each, in order of first use.
 			idx := indexOf(m.Template.Columns(), p.Column)
-			fmt.Fprintf(&b, "{%d:%d}", idx, kinds[idx].Kind)
-			i++
+			b = strconv.AppendInt(append(b, '{'), int64(idx), 10)
+			b = strconv.AppendInt(append(b, ':'), int64(kinds[idx].Kind), 10)
+			b = append(b, '}')
 		}
 	}
-	return b.String()
+	return string(b)
 }
 
 func indexOf(xs []string, x string) int {
@@ -272,7 +277,7 @@ func (q *query) closeRel(r *rel, mod modifiers) (*closed, bool) {
 		slot := Slot{Var: v}
 		for bi, b := range r.branches {
 			for _, o := range b.vars[v].alts {
-				key := fmt.Sprintf("%d/%s", si, groupKey(o))
+				key := strconv.Itoa(si) + "/" + groupKey(o)
 				exprs, types := carriers(o)
 				a, ok := allocs[key]
 				if !ok {
@@ -331,7 +336,7 @@ func (q *query) closeRel(r *rel, mod modifiers) (*closed, bool) {
 			if !ok {
 				e = q.nullOf(c.types[col])
 			}
-			sel.Columns = append(sel.Columns, sql.Column{Expr: e, Alias: fmt.Sprintf("c%d", col)})
+			sel.Columns = append(sel.Columns, sql.Column{Expr: e, Alias: "c" + strconv.Itoa(col)})
 		}
 		selects = append(selects, sel)
 	}
@@ -370,10 +375,10 @@ func (q *query) closeRel(r *rel, mod modifiers) (*closed, bool) {
 	alias := q.alias("o")
 	outer := &sql.Select{From: []sql.From{&sql.Derived{Stmt: inner, Alias: alias}}, Limit: lp, Offset: op}
 	ref := func(col int) sql.Expr {
-		return sql.ColumnRef{Table: alias, Column: catalog.Ident{Name: fmt.Sprintf("c%d", col), Quoted: true}}
+		return sql.ColumnRef{Table: alias, Column: catalog.Ident{Name: "c" + strconv.Itoa(col), Quoted: true}}
 	}
 	for col := range c.types {
-		outer.Columns = append(outer.Columns, sql.Column{Expr: ref(col), Alias: fmt.Sprintf("c%d", col)})
+		outer.Columns = append(outer.Columns, sql.Column{Expr: ref(col), Alias: "c" + strconv.Itoa(col)})
 	}
 	for _, o := range order {
 		// Other union branches fill a column with NULL: only one SELECT keeps
@@ -434,7 +439,7 @@ func (q *query) derived(r *rel, mod modifiers) (*rel, bool) {
 		for _, bl := range s.Builders {
 			o := occurrence{m: bl.Map}
 			for _, col := range bl.Cols {
-				ref := sql.ColumnRef{Table: alias, Column: catalog.Ident{Name: fmt.Sprintf("c%d", col), Quoted: true}}
+				ref := sql.ColumnRef{Table: alias, Column: catalog.Ident{Name: "c" + strconv.Itoa(col), Quoted: true}}
 				if bl.Map.Kind == catalog.Constant {
 					o.marker = ref
 					continue
@@ -477,12 +482,13 @@ func (r *rel) hasChecks() bool {
 // uniqueConds drops repeated conjuncts (each pattern states that its columns are
 // not NULL, and patterns share columns).
 func uniqueConds(conds []sql.Expr) []sql.Expr {
-	seen := map[string]bool{}
+	seen := make(map[string]bool, len(conds))
 	var out []sql.Expr
+	var key []byte
 	for _, c := range conds {
-		key := fmt.Sprintf("%#v", c)
-		if !seen[key] {
-			seen[key] = true
+		key = sql.AppendKey(key[:0], c)
+		if !seen[string(key)] {
+			seen[string(key)] = true
 			out = append(out, c)
 		}
 	}
