@@ -328,18 +328,7 @@ func (q *query) closeRel(r *rel, mod modifiers) (*closed, bool) {
 		}
 	}
 	distinct := mod.distinct || r.dedup
-	var selects []*sql.Select
-	for bi, b := range r.branches {
-		sel := &sql.Select{From: b.from, Where: sql.And(uniqueConds(b.where)...)}
-		for col := range c.types {
-			e, ok := cells[bi][col]
-			if !ok {
-				e = q.nullOf(c.types[col])
-			}
-			sel.Columns = append(sel.Columns, sql.Column{Expr: e, Alias: "c" + strconv.Itoa(col)})
-		}
-		selects = append(selects, sel)
-	}
+	selects := q.branchSelects(r.branches, cells, c.types)
 	var lp, op *int64
 	if mod.limit >= 0 {
 		lp = &mod.limit
