@@ -800,8 +800,8 @@ func onlyWhen(o occurrence, cond sql.Expr) occurrence {
 	return o
 }
 
-// sameConds reports whether a and b are the same condition; no condition is
-// the same as another.
+// sameConds reports whether a and b are the same condition; a missing (nil)
+// condition is never the same as another.
 func sameConds(a, b sql.Expr) bool {
 	return a != nil && b != nil && sql.Same(a, b)
 }

@@ -1,8 +1,6 @@
 package rewrite
 
 import (
-	"fmt"
-
 	"veneer/catalog"
 	"veneer/catalog/rdf"
 	"veneer/catalog/source"
@@ -40,9 +38,9 @@ func (q *query) group(r *rel, n algebra.Group) *rel {
 	out := &branch{from: []sql.From{&sql.Derived{Stmt: sel, Alias: alias}}, vars: map[algebra.Var]binding{}}
 	res := &rel{branches: []*branch{out}}
 	col := func(e sql.Expr, t source.Column) sql.Expr {
-		name := fmt.Sprintf("c%d", len(sel.Columns))
-		sel.Columns = append(sel.Columns, sql.Column{Expr: e, Alias: name})
-		return sql.ColumnRef{Table: alias, Column: catalog.Ident{Name: name, Quoted: true}}
+		ref := columnOf(alias, len(sel.Columns))
+		sel.Columns = append(sel.Columns, sql.Column{Expr: e, Alias: ref.Column.Name})
+		return ref
 	}
 	if len(b.checks) > 0 {
 		return nil

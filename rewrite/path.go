@@ -228,30 +228,27 @@ func (q *query) closure(p algebra.Path, s, o algebra.Var, graph algebra.Item, at
 	ncols := len(sb[0].Cols) + len(ob[0].Cols)
 	var cols []string
 	for i := 0; i < ncols; i++ {
-		cols = append(cols, fmt.Sprintf("c%d", i))
+		cols = append(cols, columnName(i))
 	}
 	// The step statement, read as a table: its start columns join the path so
 	// far's end columns.
 	prev := q.alias("r")
-	ref := func(table string, i int) sql.ColumnRef {
-		return sql.ColumnRef{Table: table, Column: catalog.Ident{Name: fmt.Sprintf("c%d", i), Quoted: true}}
-	}
 	stepSel := &sql.Select{From: []sql.From{
 		&sql.Table{Name: []catalog.Ident{{Name: name, Quoted: true}}, Alias: prev},
 		&sql.Derived{Stmt: stepClosed.stmt, Alias: edge},
 	}}
 	for i, c := range sb[0].Cols {
-		stepSel.Columns = append(stepSel.Columns, sql.Column{Expr: ref(prev, i), Alias: cols[i]})
-		stepSel.Where = sql.And(stepSel.Where, sql.Binary{Op: "=", L: ref(prev, len(sb[0].Cols)+i), R: ref(edge, c),
+		stepSel.Columns = append(stepSel.Columns, sql.Column{Expr: columnOf(prev, i), Alias: cols[i]})
+		stepSel.Where = sql.And(stepSel.Where, sql.Binary{Op: "=", L: columnOf(prev, len(sb[0].Cols)+i), R: columnOf(edge, c),
 			Exact: stringKind(stepClosed.types[c].Kind)})
 	}
 	for i, c := range ob[0].Cols {
-		stepSel.Columns = append(stepSel.Columns, sql.Column{Expr: ref(edge, c), Alias: cols[len(sb[0].Cols)+i]})
+		stepSel.Columns = append(stepSel.Columns, sql.Column{Expr: columnOf(edge, c), Alias: cols[len(sb[0].Cols)+i]})
 	}
 	anchorSel := &sql.Select{From: []sql.From{&sql.Derived{Stmt: anchor.stmt, Alias: q.alias("a")}}}
 	aAlias := anchorSel.From[0].(*sql.Derived).Alias
 	for i, c := range append(append([]int(nil), anchor.slots[0].Builders[0].Cols...), anchor.slots[1].Builders[0].Cols...) {
-		anchorSel.Columns = append(anchorSel.Columns, sql.Column{Expr: q.recursionType(ref(aAlias, c), anchor.types[c]), Alias: cols[i]})
+		anchorSel.Columns = append(anchorSel.Columns, sql.Column{Expr: q.recursionType(columnOf(aAlias, c), anchor.types[c]), Alias: cols[i]})
 	}
 	b := &branch{from: []sql.From{&sql.Recursive{Name: name, Columns: cols, Anchor: anchorSel, Step: stepSel, Alias: alias}},
 		vars: map[algebra.Var]binding{}}
@@ -265,9 +262,9 @@ func (q *query) closure(p algebra.Path, s, o algebra.Var, graph algebra.Item, at
 			t := stepClosed.types[c]
 			t.NotNull = true // every pair binds both ends
 			if end.bl.Map.Kind == catalog.Constant {
-				occ.marker = ref(alias, col)
+				occ.marker = columnOf(alias, col)
 			} else {
-				occ.exprs = append(occ.exprs, ref(alias, col))
+				occ.exprs = append(occ.exprs, columnOf(alias, col))
 				occ.cols = append(occ.cols, t)
 			}
 			col++

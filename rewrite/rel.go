@@ -131,6 +131,15 @@ func (q *query) alias(prefix string) string {
 	return prefix + strconv.Itoa(q.seq)
 }
 
+// columnName is the name of result column col of a statement the planner
+// builds: c0, c1, and so on.
+func columnName(col int) string { return "c" + strconv.Itoa(col) }
+
+// columnOf refers to result column col of the FROM item alias.
+func columnOf(alias string, col int) sql.ColumnRef {
+	return sql.ColumnRef{Table: alias, Column: catalog.Ident{Name: columnName(col), Quoted: true}}
+}
+
 // closed is a relation turned into one statement, with how to read its columns.
 type closed struct {
 	stmt   sql.Stmt
@@ -363,17 +372,14 @@ func (q *query) closeRel(r *rel, mod modifiers) (*closed, bool) {
 	// rows of the statement read as a derived table instead.
 	alias := q.alias("o")
 	outer := &sql.Select{From: []sql.From{&sql.Derived{Stmt: inner, Alias: alias}}, Limit: lp, Offset: op}
-	ref := func(col int) sql.Expr {
-		return sql.ColumnRef{Table: alias, Column: catalog.Ident{Name: "c" + strconv.Itoa(col), Quoted: true}}
-	}
 	for col := range c.types {
-		outer.Columns = append(outer.Columns, sql.Column{Expr: ref(col), Alias: "c" + strconv.Itoa(col)})
+		outer.Columns = append(outer.Columns, sql.Column{Expr: columnOf(alias, col), Alias: columnName(col)})
 	}
 	for _, o := range order {
 		// Other union branches fill a column with NULL: only one SELECT keeps
 		// its column's NOT NULL.
 		notNull := len(selects) == 1 && c.types[o.col].NotNull
-		outer.OrderBy = append(outer.OrderBy, sql.Order{Expr: o.expr(ref(o.col)), Desc: o.desc, NotNull: notNull})
+		outer.OrderBy = append(outer.OrderBy, sql.Order{Expr: o.expr(columnOf(alias, o.col)), Desc: o.desc, NotNull: notNull})
 	}
 	c.stmt = outer
 	return c, true
@@ -428,7 +434,7 @@ func (q *query) derived(r *rel, mod modifiers) (*rel, bool) {
 		for _, bl := range s.Builders {
 			o := occurrence{m: bl.Map}
 			for _, col := range bl.Cols {
-				ref := sql.ColumnRef{Table: alias, Column: catalog.Ident{Name: "c" + strconv.Itoa(col), Quoted: true}}
+				ref := columnOf(alias, col)
 				if bl.Map.Kind == catalog.Constant {
 					o.marker = ref
 					continue

@@ -12,14 +12,21 @@ import (
 // branchSelects makes the SELECT of each branch of a relation, its columns
 // from cells (by branch, then result column). Branches that read the same
 // rows, the same tables under the same conditions, share one SELECT that
-// reads those rows once (see unpivot): the branches of a subject's pattern
+// reads those rows once (see merged): the branches of a subject's pattern
 // with a variable predicate, one per property of its triples map, are the
 // common case.
 func (q *query) branchSelects(branches []*branch, cells []map[int]sql.Expr, types []source.Column) []*sql.Select {
+	wheres := make([]sql.Expr, len(branches))
+	for bi, b := range branches {
+		wheres[bi] = sql.And(uniqueConds(b.where)...)
+	}
 	groups := map[string][]int{}
 	var keys []string
 	for bi, b := range branches {
-		k, ok := sameRowsKey(b)
+		k, ok := "", false
+		if len(branches) > 1 {
+			k, ok = sameRowsKey(b, wheres[bi])
+		}
 		if !ok {
 			k = "branch " + strconv.Itoa(bi) // a group of its own
 		}
@@ -30,16 +37,33 @@ func (q *query) branchSelects(branches []*branch, cells []map[int]sql.Expr, type
 	}
 	var out []*sql.Select
 	for _, k := range keys {
-		out = append(out, q.unpivot(branches, groups[k], cells, types))
+		g := groups[k]
+		first := branches[g[0]]
+		sel := &sql.Select{From: first.from, Where: wheres[g[0]]}
+		cell := func(col int) (sql.Expr, bool) {
+			e, ok := cells[g[0]][col]
+			return e, ok
+		}
+		if len(g) > 1 {
+			sel.From, cell = q.merged(branches, g, cells)
+		}
+		for col := range types {
+			e, ok := cell(col)
+			if !ok {
+				e = q.nullOf(types[col])
+			}
+			sel.Columns = append(sel.Columns, sql.Column{Expr: e, Alias: columnName(col)})
+		}
+		out = append(out, sel)
 	}
 	return out
 }
 
 // sameRowsKey is the same for two branches exactly when they read the same
-// rows: the same tables, in order, under the same conditions once each
-// branch's aliases are replaced by their positions. Only branches of plain
-// tables have one.
-func sameRowsKey(b *branch) (string, bool) {
+// rows: the same tables, in order, under the same conditions (where) once
+// each branch's aliases are replaced by their positions. Only branches of
+// plain tables have one.
+func sameRowsKey(b *branch, where sql.Expr) (string, bool) {
 	var key []byte
 	pos := map[string]string{}
 	for i, f := range b.from {
@@ -50,70 +74,56 @@ func sameRowsKey(b *branch) (string, bool) {
 		key = append(append(key, t.Key...), 0)
 		pos[t.Alias] = "\x00" + strconv.Itoa(i)
 	}
-	where := sql.MapColumns(sql.And(uniqueConds(b.where)...), func(c sql.ColumnRef) sql.ColumnRef {
+	where = sql.MapColumns(where, func(c sql.ColumnRef) sql.ColumnRef {
 		c.Table = pos[c.Table]
 		return c
 	})
 	return string(sql.AppendKey(key, where)), true
 }
 
-// unpivot makes the SELECT of the branches g, which read the same rows
-// (sameRowsKey), from the first one's tables and conditions: joined with a
-// table of the numbers 1 to len(g), each row comes once for every branch, and
-// a result column holds, on the repeat of branch i, what branch i puts there
-// (NULL where it puts nothing). The rows are those of the branches' UNION ALL;
-// the database reads them once instead of once per branch. A group of one
-// branch is that branch's SELECT.
-func (q *query) unpivot(branches []*branch, g []int, cells []map[int]sql.Expr, types []source.Column) *sql.Select {
+// merged makes the FROM list and the result columns of one SELECT for the
+// branches g, which read the same rows (sameRowsKey): the first branch's
+// tables joined with a table of the numbers 1 to len(g), so that each row
+// comes once for every branch, and a result column that holds, on the
+// repeat of branch i, what branch i puts there (nothing where it puts
+// nothing). The rows are those of the branches' UNION ALL; the database
+// reads them once instead of once per branch.
+func (q *query) merged(branches []*branch, g []int, cells []map[int]sql.Expr) ([]sql.From, func(col int) (sql.Expr, bool)) {
 	first := branches[g[0]]
-	sel := &sql.Select{From: first.from, Where: sql.And(uniqueConds(first.where)...)}
-	var num sql.Expr
-	if len(g) > 1 {
-		alias := q.alias("n")
-		numbers := &sql.Union{All: true}
-		for i := range g {
-			numbers.Selects = append(numbers.Selects, &sql.Select{Columns: []sql.Column{{Expr: sql.Int(i + 1), Alias: "n"}}})
-		}
-		sel.From = append(slices.Clip(first.from), &sql.Derived{Stmt: numbers, Alias: alias})
-		num = sql.ColumnRef{Table: alias, Column: catalog.Ident{Name: "n", Quoted: true}}
+	alias := q.alias("n")
+	numbers := &sql.Union{All: true}
+	for i := range g {
+		numbers.Selects = append(numbers.Selects, &sql.Select{Columns: []sql.Column{{Expr: sql.Int(i + 1), Alias: "n"}}})
 	}
-	// A group of more than one branch holds plain tables only (sameRowsKey).
-	renames := make([]map[string]string, len(g))
-	for i, bi := range g[1:] {
-		renames[i+1] = map[string]string{}
+	from := append(slices.Clip(first.from), &sql.Derived{Stmt: numbers, Alias: alias})
+	num := sql.ColumnRef{Table: alias, Column: catalog.Ident{Name: "n", Quoted: true}}
+	// Each branch's aliases become the first branch's, position by position.
+	renames := make([]func(sql.ColumnRef) sql.ColumnRef, len(g))
+	for i, bi := range g {
+		to := map[string]string{}
 		for j, f := range branches[bi].from {
-			renames[i+1][f.(*sql.Table).Alias] = first.from[j].(*sql.Table).Alias
+			to[f.(*sql.Table).Alias] = first.from[j].(*sql.Table).Alias
+		}
+		renames[i] = func(c sql.ColumnRef) sql.ColumnRef {
+			if a, ok := to[c.Table]; ok {
+				c.Table = a
+			}
+			return c
 		}
 	}
-	for col := range types {
+	return from, func(col int) (sql.Expr, bool) {
 		var alts []sql.Expr
 		for i, bi := range g {
-			e, ok := cells[bi][col]
-			if !ok {
-				continue
+			if e, ok := cells[bi][col]; ok {
+				alts = append(alts, sql.Case{When: sql.Binary{Op: "=", L: num, R: sql.Int(i + 1)}, Then: sql.MapColumns(e, renames[i])})
 			}
-			if len(g) == 1 {
-				alts = append(alts, e)
-				break
-			}
-			e = sql.MapColumns(e, func(c sql.ColumnRef) sql.ColumnRef {
-				if a, ok := renames[i][c.Table]; ok {
-					c.Table = a
-				}
-				return c
-			})
-			alts = append(alts, sql.Case{When: sql.Binary{Op: "=", L: num, R: sql.Int(i + 1)}, Then: e})
 		}
-		var e sql.Expr
 		switch len(alts) {
 		case 0:
-			e = q.nullOf(types[col])
+			return nil, false
 		case 1:
-			e = alts[0]
-		default:
-			e = sql.Func{Name: "COALESCE", Args: alts}
+			return alts[0], true
 		}
-		sel.Columns = append(sel.Columns, sql.Column{Expr: e, Alias: "c" + strconv.Itoa(col)})
+		return sql.Func{Name: "COALESCE", Args: alts}, true
 	}
-	return sel
 }

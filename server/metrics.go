@@ -146,8 +146,8 @@ func newMetrics(reg prometheus.Registerer) *metrics {
 		m.kinds[k] = kindMetrics{m.queryDuration.WithLabelValues(k.String()), m.rows.WithLabelValues(k.String())}
 	}
 	m.planHit, m.planMiss = m.planCache.WithLabelValues("hit"), m.planCache.WithLabelValues("miss")
-	reg.MustRegister(m.requests, m.duration, m.queryDuration, m.sqlDuration, m.rows, m.rejected, m.timeouts, m.residual, m.streamFailures, m.rowLimit, m.reloads,
-		m.translation, m.planCache)
+	reg.MustRegister(m.requests, m.duration, m.queryDuration, m.sqlDuration, m.rows, m.rejected,
+		m.timeouts, m.residual, m.streamFailures, m.rowLimit, m.reloads, m.translation, m.planCache)
 	return m
 }
 

@@ -108,13 +108,17 @@ func ensureLoaded(ctx context.Context, t gen.Target, sf float64, mode string, pr
 	return strings.ToUpper(line[:1]) + line[1:] + ".", nil
 }
 
-// benchmark serves veneer and the SQL twins on loopback and measures them.
-func benchmark(ctx context.Context, t gen.Target, o benchOptions, progress io.Writer) (*bench.Report, error) {
-	src, err := source.Open(ctx, t.DSN)
-	if err != nil {
-		return nil, err
-	}
-	defer src.Close()
+// sides are the two handlers a run asks on one source, veneer's (with its
+// planner) and the SQL twins', and the queries of the mix it asks them.
+type sides struct {
+	planner      *rewrite.Planner
+	veneer, twin http.Handler
+	queries      []mix.Query
+}
+
+// newSides wires both sides on src for the queries named in the
+// comma-separated list only (all when it is empty).
+func newSides(ctx context.Context, src source.Source, only string) (*sides, error) {
 	planner, handler, err := veneer(ctx, src)
 	if err != nil {
 		return nil, err
@@ -123,21 +127,37 @@ func benchmark(ctx context.Context, t gen.Target, o benchOptions, progress io.Wr
 	if err != nil {
 		return nil, fmt.Errorf("choosing the resources the queries ask about: %w", err)
 	}
-	queries, err := selectQueries(mix.Queries(params, src.Dialect()), o.only)
+	queries, err := selectQueries(mix.Queries(params, src.Dialect()), only)
 	if err != nil {
 		return nil, err
 	}
+	return &sides{planner: planner, veneer: handler, queries: queries,
+		twin: twin.Handler(src, queries, server.DefaultConfig().Limits.QueryTimeout)}, nil
+}
+
+// benchmark serves veneer and the SQL twins on loopback and measures them.
+func benchmark(ctx context.Context, t gen.Target, o benchOptions, progress io.Writer) (*bench.Report, error) {
+	src, err := source.Open(ctx, t.DSN)
+	if err != nil {
+		return nil, err
+	}
+	defer src.Close()
+	s, err := newSides(ctx, src, o.only)
+	if err != nil {
+		return nil, err
+	}
+	planner, queries := s.planner, s.queries
 	if o.explain {
 		if err := writeExplain(planner, queries, o.out, t.Dialect, o.sf); err != nil {
 			return nil, err
 		}
 	}
-	veneerURL, stopVeneer, err := listen("veneer", handler)
+	veneerURL, stopVeneer, err := listen("veneer", s.veneer)
 	if err != nil {
 		return nil, err
 	}
 	defer stopVeneer()
-	twinURL, stopTwin, err := listen("twin", twin.Handler(src, queries, server.DefaultConfig().Limits.QueryTimeout))
+	twinURL, stopTwin, err := listen("twin", s.twin)
 	if err != nil {
 		return nil, err
 	}

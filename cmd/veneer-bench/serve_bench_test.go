@@ -13,7 +13,6 @@ import (
 	"veneer/cmd/veneer-bench/bench"
 	"veneer/cmd/veneer-bench/mix"
 	"veneer/cmd/veneer-bench/twin"
-	"veneer/server"
 )
 
 // BenchmarkServe sends each query of the mix to veneer's handler and to its
@@ -35,20 +34,11 @@ func BenchmarkServe(b *testing.B) {
 		b.Fatal(err)
 	}
 	defer src.Close()
-	_, veneerHandler, err := veneer(ctx, src)
+	s, err := newSides(ctx, src, os.Getenv("VENEER_BENCH_QUERIES"))
 	if err != nil {
 		b.Fatal(err)
 	}
-	params, err := mix.ReadParams(ctx, src)
-	if err != nil {
-		b.Fatal(err)
-	}
-	queries, err := selectQueries(mix.Queries(params, src.Dialect()), os.Getenv("VENEER_BENCH_QUERIES"))
-	if err != nil {
-		b.Fatal(err)
-	}
-	twinHandler := twin.Handler(src, queries, server.DefaultConfig().Limits.QueryTimeout)
-	for _, q := range queries {
+	for _, q := range s.queries {
 		accept := "application/sparql-results+json"
 		if q.Form == mix.Construct {
 			accept = "application/n-triples"
@@ -58,8 +48,8 @@ func BenchmarkServe(b *testing.B) {
 			h      http.Handler
 			target string
 		}{
-			{"veneer", veneerHandler, "/sparql?query=" + url.QueryEscape(q.SPARQL)},
-			{"twin", twinHandler, twin.Path + q.Name + "?" + q.Twin.ArgsQuery()},
+			{"veneer", s.veneer, "/sparql?query=" + url.QueryEscape(q.SPARQL)},
+			{"twin", s.twin, twin.Path + q.Name + "?" + q.Twin.ArgsQuery()},
 		} {
 			b.Run(q.Name+"/"+side.name, func(b *testing.B) {
 				b.ReportAllocs()

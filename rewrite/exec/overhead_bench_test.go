@@ -2,12 +2,9 @@ package exec_test
 
 import (
 	"context"
-	"path/filepath"
 	"testing"
 
-	"veneer/cmd/veneer/demo"
 	"veneer/rewrite"
-	"veneer/rewrite/exec"
 )
 
 // BenchmarkQueryOverhead times a point lookup through the engine (plan cache,
@@ -16,12 +13,7 @@ import (
 // a query that returns one row. It measures; it asserts nothing about time.
 func BenchmarkQueryOverhead(b *testing.B) {
 	ctx := context.Background()
-	d, err := demo.OpenSQLite(ctx, filepath.Join(b.TempDir(), "demo.db"))
-	if err != nil {
-		b.Fatal(err)
-	}
-	defer d.Source.Close()
-	engine := &exec.Engine{Planner: rewrite.NewPlanner(d.Catalog, d.Columns, d.Source.Dialect()), Source: d.Source}
+	d, engine := demoEngine(b)
 	const query = `PREFIX wf: <https://vocab.veneer.example/windfarm#>
 SELECT ?serial ?kw WHERE { <https://data.veneer.example/windfarm/turbine/WF23-2012-000001> wf:serialNumber ?serial ; wf:ratedPowerKW ?kw }`
 	plan, err := engine.Planner.Compile(query)

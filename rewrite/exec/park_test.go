@@ -3,12 +3,10 @@ package exec_test
 import (
 	"context"
 	"errors"
-	"path/filepath"
 	"strings"
 	"testing"
 
 	"veneer/catalog/source"
-	"veneer/cmd/veneer/demo"
 	"veneer/rewrite"
 	"veneer/rewrite/exec"
 )
@@ -57,11 +55,7 @@ func (h *heldRows) Close() error {
 // every work order and inspection on a turbine passes the filter).
 func TestNestedStatementsHoldOneConnection(t *testing.T) {
 	ctx := context.Background()
-	d, err := demo.OpenSQLite(ctx, filepath.Join(t.TempDir(), "demo.db"))
-	if err != nil {
-		t.Fatal(err)
-	}
-	defer d.Source.Close()
+	d, base := demoEngine(t)
 	rows, err := d.Source.Query(ctx, "SELECT (SELECT COUNT(*) FROM work_order) + (SELECT COUNT(*) FROM inspection)")
 	if err != nil {
 		t.Fatal(err)
@@ -72,7 +66,7 @@ func TestNestedStatementsHoldOneConnection(t *testing.T) {
 	}
 	rows.Close()
 	one := &oneConnection{Source: d.Source}
-	engine := &exec.Engine{Planner: rewrite.NewPlanner(d.Catalog, d.Columns, d.Source.Dialect()), Source: one}
+	engine := &exec.Engine{Planner: base.Planner, Source: one}
 	const q = `PREFIX wf: <https://vocab.veneer.example/windfarm#>
 SELECT ?w WHERE { ?w wf:onTurbine ?t FILTER EXISTS { ?t wf:status ?s FILTER(STRLEN(STR(?t)) > STRLEN(LCASE(?s))) } }`
 	p, _, err := engine.Planner.CompileRequest(rewrite.Request{Text: q})

@@ -3,12 +3,10 @@ package exec_test
 import (
 	"context"
 	"fmt"
-	"path/filepath"
 	"slices"
 	"strings"
 	"testing"
 
-	"veneer/cmd/veneer/demo"
 	"veneer/rewrite"
 	"veneer/rewrite/exec"
 )
@@ -25,12 +23,7 @@ PREFIX xsd: <http://www.w3.org/2001/XMLSchema#>
 // treats differently: IRIs of two triples maps, IRIs no template produces,
 // literals, UNDEF, repeated rows and no rows at all.
 func TestShapeCacheAnswers(t *testing.T) {
-	d, err := demo.OpenSQLite(context.Background(), filepath.Join(t.TempDir(), "demo.db"))
-	if err != nil {
-		t.Fatal(err)
-	}
-	defer d.Source.Close()
-	engine := &exec.Engine{Planner: rewrite.NewPlanner(d.Catalog, d.Columns, d.Source.Dialect()), Source: d.Source}
+	_, engine := demoEngine(t)
 
 	iris := func(class string) []string {
 		rows := answer(t, engine, shapePrefixes+`SELECT ?x WHERE { ?x a wf:`+class+` } ORDER BY ?x LIMIT 4`, false)
